@@ -166,22 +166,40 @@ class BatchResidual:
     liquid_like: np.ndarray
 
 
+_BATCH_CHUNK = 16384  # states per pass: keeps the working arrays in cache
+
+
 def residual_batch(model, temperatures, pressures, x: np.ndarray) -> BatchResidual:
     """Departure functions for arrays of T (K) and P (Pa) at one composition,
     lowest-Gibbs root at each state."""
     t = np.asarray(temperatures, dtype=float)
     p = np.asarray(pressures, dtype=float)
     t, p = np.broadcast_arrays(t, p)
+    shape = t.shape
+    t, p = t.ravel(), p.ravel()
     if not (np.all(t > 0) and np.all(p > 0) and np.all(np.isfinite(t)) and np.all(np.isfinite(p))):
         raise StateInputError("every temperature and pressure in a batch must be finite and positive")
+    out = [np.empty(t.size) for _ in range(3)] + [np.empty(t.size, dtype=bool)]
+    for start in range(0, t.size, _BATCH_CHUNK):
+        part = slice(start, start + _BATCH_CHUNK)
+        for target, values in zip(out, _residual_chunk(model, t[part], p[part], x)):
+            target[part] = values
+    if model.family == VOLUME_EXPLICIT and np.any(out[2] <= 0.0):
+        bad = int(np.count_nonzero(out[2] <= 0.0))
+        raise StateInputError(
+            f"{model.name} gives a non-positive volume at {bad} of the states: "
+            "the truncated virial equation does not serve at those densities"
+        )
+    return BatchResidual(*(a.reshape(shape) for a in out))
+
+
+def _residual_chunk(model, t, p, x):
     rt = R * t
     if model.family == IDEAL:
-        zeros = np.zeros_like(t)
-        return BatchResidual(zeros, zeros.copy(), np.ones_like(t), np.zeros(t.shape, bool))
+        return np.zeros_like(t), np.zeros_like(t), np.ones_like(t), np.zeros(t.shape, bool)
     if model.family == VOLUME_EXPLICIT:
         g, g_t, g_p = model.batch_gibbs(t, p, x)
-        z = 1.0 + p * g_p
-        return BatchResidual(-rt * t * g_t, -R * (t * g_t + g), z, np.zeros(t.shape, bool))
+        return -rt * t * g_t, -R * (t * g_t + g), 1.0 + p * g_p, np.zeros(t.shape, bool)
     v_small, v_large = model.batch_roots(t, p, x)
     results = []
     for volume in (v_small, v_large):
@@ -189,8 +207,8 @@ def residual_batch(model, temperatures, pressures, x: np.ndarray) -> BatchResidu
         z = p * volume / rt
         ln_z = np.log(z)
         minus_t_ft = -t * f_t
-        results.append((rt * (f + z - 1.0 - ln_z), rt * (minus_t_ft + z - 1.0), R * (minus_t_ft - f + ln_z), z))
+        results.append((f + z - 1.0 - ln_z, rt * (minus_t_ft + z - 1.0), R * (minus_t_ft - f + ln_z), z))
     small_wins = results[0][0] < results[1][0]
     pick = lambda k: np.where(small_wins, results[0][k], results[1][k])  # noqa: E731
     distinct = v_small < v_large * (1.0 - 1e-12)
-    return BatchResidual(pick(1), pick(2), pick(3), small_wins & distinct)
+    return pick(1), pick(2), pick(3), small_wins & distinct

@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
+from scipy.special import xlogy
 
 from .components import P_REF, R, T_REF
 from .mixture import Mixture
@@ -36,8 +37,9 @@ def pure_entropies_at_reference_pressure(mixture: Mixture, temperature: float) -
 
 def mixing_entropy(x: np.ndarray) -> float:
     """Ideal entropy of mixing, -R sum(x ln x), J/(mol K); zero fractions add nothing."""
-    positive = x[x > 0.0]
-    return float(-R * np.dot(positive, np.log(positive)))
+    if len(x) == 1:
+        return 0.0
+    return float(-R * xlogy(x, x).sum())
 
 
 def enthalpy(mixture: Mixture, temperature: float, x: np.ndarray) -> float:
@@ -77,3 +79,23 @@ def entropy_batch(
     polynomial = (((c[4] / 4 * t + c[3] / 3) * t + c[2] / 2) * t + c[1]) * t
     value = c[0] * np.log(t) + polynomial - float(c @ _REF_POWERS_S)
     return value - R * np.log(np.asarray(pressures, dtype=float) / P_REF) + mixing_entropy(x)
+
+
+_REF_H = [float(v) for v in _REF_POWERS_H]
+_REF_S = [float(v) for v in _REF_POWERS_S]
+
+
+def enthalpy_entropy(mixture: Mixture, temperature: float, pressure: float, x: np.ndarray) -> tuple[float, float]:
+    """Ideal-gas molar enthalpy (J/mol) and entropy (J/(mol K)) of the mixture
+    at ``temperature`` (K) and ``pressure`` (Pa), entropy of mixing included.
+
+    The single-state hot path: one small matrix product, then scalar Horner sums.
+    """
+    c0, c1, c2, c3, c4 = (x @ mixture.cp_coefficients).tolist()
+    t = temperature
+    h = ((((c4 / 5 * t + c3 / 4) * t + c2 / 3) * t + c1 / 2) * t + c0) * t
+    h -= c0 * _REF_H[0] + c1 * _REF_H[1] + c2 * _REF_H[2] + c3 * _REF_H[3] + c4 * _REF_H[4]
+    s = c0 * math.log(t) + (((c4 / 4 * t + c3 / 3) * t + c2 / 2) * t + c1) * t
+    s -= c0 * _REF_S[0] + c1 * _REF_S[1] + c2 * _REF_S[2] + c3 * _REF_S[3] + c4 * _REF_S[4]
+    s += -R * math.log(pressure / P_REF) + mixing_entropy(x)
+    return h, s

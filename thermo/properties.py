@@ -28,19 +28,15 @@ def phase_state(model, temperature: float, pressure: float, x: np.ndarray, label
     """One phase at T (K), P (Pa), composition x; ``res`` if already computed."""
     if res is None:
         res = residual(model, temperature, pressure, x, "liquid" if label == LIQUID else "vapor")
-    mixture = model.mixture
-    h = idealgas.enthalpy(mixture, temperature, x) + res.enthalpy
-    s = idealgas.entropy(mixture, temperature, pressure, x) + res.entropy
-    return PhaseState(label, amount, x, h, s, res)
+    h_ig, s_ig = idealgas.enthalpy_entropy(model.mixture, temperature, pressure, x)
+    return PhaseState(label, amount, x, h_ig + res.enthalpy, s_ig + res.entropy, res)
 
 
 def single_phase_state(model, temperature: float, pressure: float, x: np.ndarray, root: str = "auto") -> StreamState:
     """The stream state at T (K), P (Pa), composition x, assuming one phase
     (volume root of lowest Gibbs energy unless ``root`` forces one)."""
     res = residual(model, temperature, pressure, x, root)
-    mixture = model.mixture
-    h_ig = idealgas.enthalpy(mixture, temperature, x)
-    s_ig = idealgas.entropy(mixture, temperature, pressure, x)
+    h_ig, s_ig = idealgas.enthalpy_entropy(model.mixture, temperature, pressure, x)
     label = phase_of_single_phase(model, temperature, pressure, x, res)
     phase_label = LIQUID if res.root == LIQUID_LIKE else VAPOR
     phase = PhaseState(phase_label, 1.0, x, h_ig + res.enthalpy, s_ig + res.entropy, res)
@@ -63,7 +59,6 @@ def combine_phases(model, temperature: float, pressure: float, x: np.ndarray,
     """A stream state from its phases (amounts per mole of stream)."""
     from .state import TWO_PHASE
 
-    mixture = model.mixture
     h = sum(p.amount * p.enthalpy for p in phases)
     s = sum(p.amount * p.entropy for p in phases)
     vapor = sum(p.amount for p in phases if p.label == VAPOR)
@@ -71,6 +66,7 @@ def combine_phases(model, temperature: float, pressure: float, x: np.ndarray,
         label = phase_of_single_phase(model, temperature, pressure, x, phases[0].residual)
     else:
         label = TWO_PHASE
+    h_ig, s_ig = idealgas.enthalpy_entropy(model.mixture, temperature, pressure, x)
     return StreamState(
         temperature=temperature,
         pressure=pressure,
@@ -80,7 +76,7 @@ def combine_phases(model, temperature: float, pressure: float, x: np.ndarray,
         enthalpy=float(h),
         entropy=float(s),
         phases=phases,
-        ideal_gas_enthalpy=idealgas.enthalpy(mixture, temperature, x),
-        ideal_gas_entropy=idealgas.entropy(mixture, temperature, pressure, x),
+        ideal_gas_enthalpy=h_ig,
+        ideal_gas_entropy=s_ig,
         notes=notes,
     )

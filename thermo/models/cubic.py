@@ -123,17 +123,19 @@ class CubicModel(PressureExplicitModel):
         self._delta2 = parameters.delta2
         self._coef_b = parameters.delta1 + parameters.delta2
         self._coef_bb = parameters.delta1 * parameters.delta2
+        # sqrt(a_i(T)) = q0_i - q1_i sqrt(T), the Soave form of alpha(T) rearranged
+        self._q0 = self._sqrt_ac * (1.0 + self._kappa)
+        self._q1 = self._sqrt_ac * self._kappa / np.sqrt(tc)
 
     # Temperature-dependent attraction, shared by the scalar and batch paths.
     def attraction(self, temperature: float, x: np.ndarray) -> tuple[float, float, np.ndarray]:
         """a (Pa m6/mol2), da/dT (Pa m6/(mol2 K)) and D_i = d(n^2 a)/dn_i
         (Pa m6/mol2) at ``temperature`` (K) and mole fractions ``x``."""
-        sqrt_tr = np.sqrt(temperature / self._tc)
-        q = self._sqrt_ac * (1.0 + self._kappa * (1.0 - sqrt_tr))
-        dq = -self._sqrt_ac * self._kappa * sqrt_tr / (2.0 * temperature)
+        root_t = math.sqrt(temperature)
+        q = self._q0 - self._q1 * root_t
         weighted = self._one_minus_k @ (q * x)
         a = float(x @ (q * weighted))
-        da = float(2.0 * (x @ (dq * weighted)))
+        da = -float(x @ (self._q1 * weighted)) / root_t
         return a, da, 2.0 * q * weighted
 
     def at(self, temperature: float, x: np.ndarray) -> "CubicIsotherm":
