@@ -1,0 +1,1 @@
+"""The app's widgets, one to a file; helpers for them in ``cells`` and ``fields``."""

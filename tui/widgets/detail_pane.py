@@ -1,0 +1,214 @@
+"""The detail pane: the selected stream, unit or the sheet's settings, each
+field with its entered text (in brackets) and its computed value; then the
+three-step path breakdown and the cautions with their messages."""
+
+from __future__ import annotations
+
+from typing import Mapping
+
+from rich.console import Group
+from rich.table import Table
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical, VerticalScroll
+from textual.message import Message
+from textual.widgets import DataTable, Static
+
+from thermo.path import STEP_NAMES
+from thermo.quantities import display_units
+
+from .cells import flag_line, flags_by_place, number
+from .field_editor import FieldEditor
+from .fields import Field, marked, sheet_fields, stream_fields, unit_fields
+
+STEP_WORDS = {
+    "real-to-ideal": "real \u2192 ideal gas",
+    "ideal-gas-change": "ideal gas T,P change",
+    "ideal-to-real": "ideal gas \u2192 real",
+}
+
+
+class FieldList(DataTable):
+    """The fields of the selection; enter or e edits, x clears a written one."""
+
+    BINDINGS = [
+        Binding("e", "edit_field", "Edit field", show=True),
+        Binding("x,delete", "clear_field", "Clear field", show=True),
+    ]
+
+    class EditWanted(Message):
+        def __init__(self, field: Field) -> None:
+            self.field = field
+            super().__init__()
+
+    class ClearWanted(Message):
+        def __init__(self, field: Field) -> None:
+            self.field = field
+            super().__init__()
+
+    def __init__(self, **options) -> None:
+        super().__init__(cursor_type="row", **options)
+        self.fields: list[Field] = []
+
+    def show(self, fields: list[Field]) -> None:
+        keep = self.cursor_row
+        self.clear(columns=True)
+        self.add_column("field", key="field")
+        self.add_column("entered", key="entered")
+        self.add_column("computed", key="computed")
+        self.add_column("", key="note")
+        self.fields = fields
+        for index, field in enumerate(fields):
+            entered = Text(marked(field.entered) if (field.entered is not None or field.editable) else "",
+                           style="bold" if field.entered is not None else "dim")
+            label = Text(field.label, style="" if field.editable else "dim")
+            self.add_row(label, entered, Text(field.computed or ""), Text(field.note, style="dim italic"),
+                         key=str(index))
+        if fields:
+            self.move_cursor(row=min(keep or 0, len(fields) - 1), animate=False)
+
+    @property
+    def current(self) -> Field | None:
+        if not self.fields or self.cursor_row is None or not 0 <= self.cursor_row < len(self.fields):
+            return None
+        return self.fields[self.cursor_row]
+
+    def action_edit_field(self) -> None:
+        field = self.current
+        if field is not None:
+            self.post_message(self.EditWanted(field))
+
+    def action_clear_field(self) -> None:
+        field = self.current
+        if field is not None:
+            self.post_message(self.ClearWanted(field))
+
+    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+        event.stop()
+        self.action_edit_field()
+
+
+class DetailPane(Vertical):
+    """Shows one selection: ``("stream", name)``, ``("unit", name)`` or
+    ``("sheet", None)``. Posts ``FieldEditor.Submitted`` (from its editor) and
+    ``FieldList.ClearWanted`` for the screen to make the edit."""
+
+    def __init__(self, **options) -> None:
+        super().__init__(**options)
+        self.selection: tuple[str, str | None] = ("sheet", None)
+
+    def compose(self) -> ComposeResult:
+        yield Static("", id="detail-title", classes="pane-title")
+        yield FieldList(id="fields")
+        editor = FieldEditor(id="editor")
+        editor.display = False
+        yield editor
+        with VerticalScroll(id="detail-extra"):
+            yield Static("", id="detail-notes")
+
+    @property
+    def editor(self) -> FieldEditor:
+        return self.query_one(FieldEditor)
+
+    @property
+    def field_list(self) -> FieldList:
+        return self.query_one(FieldList)
+
+    @property
+    def editing(self) -> bool:
+        return self.editor.display
+
+    def show(self, selection, result, document: Mapping, system: str, stale: bool) -> None:
+        self.selection = selection
+        kind, name = selection
+        title = self.query_one("#detail-title", Static)
+        stale_word = "  \u2026 computed values are from the last solve" if stale else ""
+        places = flags_by_place(result)
+        parts: list = []
+        if kind == "stream":
+            stream = result.streams.get(name) if result is not None else None
+            fields = stream_fields(document, name, stream, system)
+            origin = ""
+            if stream is not None:
+                origin = "feed" if stream.is_feed else f"made by {stream.source_unit}"
+            elif isinstance(document.get("streams"), Mapping) and name in document["streams"]:
+                origin = "feed"
+            title.update(Text.assemble(("\u25b8 stream ", "dim"), (name or "", "bold"), f"  {origin}",
+                                       (stale_word, "yellow")))
+            parts.extend(self._stream_path(stream, result, system))
+            parts.extend(self._flags(places.get(name, [])))
+            if stream is not None and stream.state.notes:
+                parts.append(Text("notes", style="bold underline"))
+                parts.extend(Text(f"\u00b7 {note}") for note in stream.state.notes)
+        elif kind == "unit":
+            unit = result.units.get(name) if result is not None else None
+            fields = unit_fields(document, name, unit, system)
+            title.update(Text.assemble(("\u25b8 unit ", "dim"), (name or "", "bold"),
+                                       f"  {unit.type if unit else ''}", (stale_word, "yellow")))
+            parts.extend(self._unit_path(unit, system))
+            parts.extend(self._flags(places.get(name, [])))
+            if unit is not None and unit.notes:
+                parts.append(Text("notes", style="bold underline"))
+                parts.extend(Text(f"\u00b7 {note}") for note in unit.notes)
+        else:
+            fields = sheet_fields(document, result, system)
+            title.update(Text.assemble(("\u25b8 ", "dim"), ("sheet settings", "bold"), (stale_word, "yellow")))
+            parts.extend(self._flags(places.get("flowsheet", [])))
+            if result is not None and result.errors:
+                parts.append(Text("errors", style="bold underline"))
+                for error in result.errors:
+                    parts.append(Text(f"\u2716 {error.code}: {error.message}" + (f" ({error.where})" if error.where else ""),
+                                      style="bold red"))
+        self.field_list.show(fields)
+        self.query_one("#detail-notes", Static).update(Group(*parts) if parts else Text(""))
+
+    def _flags(self, flags: list) -> list:
+        if not flags:
+            return [Text("\u2714 ok: no cautions", style="green")]
+        return [Text("cautions", style="bold underline")] + [flag_line(flag) for flag in flags]
+
+    def _steps_table(self, heading: str, h_unit: str, s_unit: str, rows: list[tuple[str, str, str]]) -> Table:
+        table = Table(title=heading, title_justify="left", box=None, pad_edge=False, show_edge=False,
+                      title_style="bold underline")
+        table.add_column("step")
+        table.add_column(f"\u0394H {h_unit}", justify="right")
+        table.add_column(f"\u0394S {s_unit}", justify="right")
+        for row in rows:
+            table.add_row(*row)
+        return table
+
+    def _unit_path(self, unit, system: str) -> list:
+        if unit is None or unit.path is None:
+            return [Text("three-step path: not available", style="dim")]
+        rows = [
+            (STEP_WORDS.get(step, step), number(h, "power", system), number(s, "entropy_rate", system))
+            for step, h, s in zip(STEP_NAMES, unit.path.enthalpy_W, unit.path.entropy_W_K)
+        ]
+        rows.append(("total (out \u2212 in)", number(sum(unit.path.enthalpy_W), "power", system),
+                     number(sum(unit.path.entropy_W_K), "entropy_rate", system)))
+        return [self._steps_table("three-step path, all streams", display_units("power", system),
+                                  display_units("entropy_rate", system), rows)]
+
+    def _stream_path(self, stream, result, system: str) -> list:
+        if stream is None:
+            return []
+        h_unit, s_unit = display_units("molar_energy", system), display_units("molar_entropy", system)
+        producer = result.units.get(stream.source_unit) if stream.source_unit else None
+        change = producer.path.per_stream.get(stream.name) if producer and producer.path else None
+        if change is not None:
+            rows = [(STEP_WORDS.get(step.name, step.name), number(step.enthalpy, "molar_energy", system),
+                     number(step.entropy, "molar_entropy", system)) for step in change.steps]
+            rows.append(("total", number(change.enthalpy, "molar_energy", system),
+                         number(change.entropy, "molar_entropy", system)))
+            return [self._steps_table(f"three-step path through {producer.name}, per mole", h_unit, s_unit, rows)]
+        state = stream.state
+        rows = [
+            ("ideal gas at T, P", number(state.ideal_gas_enthalpy, "molar_energy", system),
+             number(state.ideal_gas_entropy, "molar_entropy", system)),
+            ("departure (real \u2212 ideal)", number(state.residual_enthalpy, "molar_energy", system),
+             number(state.residual_entropy, "molar_entropy", system)),
+            ("real state", number(state.enthalpy, "molar_energy", system),
+             number(state.entropy, "molar_entropy", system)),
+        ]
+        return [self._steps_table("from the reference ideal gas, per mole", h_unit, s_unit, rows)]
