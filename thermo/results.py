@@ -46,6 +46,8 @@ class SolveError:
     code: str
     message: str
     where: str = ""
+    line: int | None = None  # 1-based line in the file, where known
+    file: str | None = None
 
 
 @dataclass(frozen=True)
@@ -102,3 +104,4 @@ class SheetResult:
     errors: tuple[SolveError, ...] = ()
     solve_order: tuple[str, ...] = ()
     recycle_iterations: int = 0
+    tear_streams: tuple[str, ...] = ()  # streams torn to solve recycle loops
