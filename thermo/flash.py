@@ -1,46 +1,576 @@
-"""Phase equilibrium (single-phase first version: lowest-Gibbs root, no split).
+"""Phase equilibrium of a stream: TP, PH, PS flashes, flashes at a given
+vapor fraction, bubble and dew points, and pure-component saturation.
 
-Being extended to the full stability test and two-phase flashes.
+At fixed T and P a cubic-model feed is tested for stability by the tangent
+plane (``thermo.stability``); an unstable feed is split into two phases
+(``thermo.two_phase``). A pure component has one phase except on its
+saturation curve (``thermo.saturation``). PH and PS flashes search the
+temperature with Newton's method inside a maintained bracket, falling back to
+bisection, on the equilibrium enthalpy or entropy, whose temperature
+derivative (phase change included) is analytic. For a pure component inside
+its two-phase region the temperature is the saturation temperature and the
+vapor fraction carries the enthalpy or entropy.
+
+The ideal-gas and virial models have no liquid root: their streams are
+single-phase vapor, and saturation requests on them raise FlashError.
+
+Every result is verified before it is returned: equal ln fugacities to
+1e-8 and closed mass balances for a split, the H or S target met to a tight
+tolerance; otherwise FlashError names the state and what failed. States near
+a critical point carry the note "near-critical" in StreamState.notes.
+
+SI units: K, Pa, J/mol, J/(mol K); compositions are mole-fraction vectors
+over the model's mixture.
 """
 
 from __future__ import annotations
 
+import math
+from dataclasses import dataclass
+
 import numpy as np
-from scipy.optimize import brentq
 
-from .properties import single_phase_state
-from .state import StreamState
+from . import idealgas
+from .bubble_dew import EnvelopePoint, envelope_point
+from .components import R
+from .departures import LIQUID_LIKE, StateInputError, check_state
+from .flash_support import (
+    LIQUID_LIQUID,
+    NEAR_CRITICAL,
+    FlashError,
+    describe_state,
+    near_critical_pure,
+    near_critical_split,
+    wilson_k,
+)
+from .fugacity import CubicAtTP, CubicKernel, kernel_for
+from .models.base import PRESSURE_EXPLICIT
+from .models.cubic import CubicModel
+from .properties import combine_phases, phase_state, single_phase_state
+from .saturation import (
+    SaturationPoint,
+    lee_kesler_pressure,
+    saturation_point,
+    saturation_pressure,
+    saturation_temperature,
+    saturation_temperature_point,
+    vaporization_enthalpy,
+)
+from .stability import StabilityError, stability_test
+from .state import LIQUID, VAPOR, StreamState
+from .two_phase import Split, SplitError, split, temperature_derivative
+
+__all__ = [
+    "FlashError",
+    "flash_tp",
+    "flash_ph",
+    "flash_ps",
+    "flash_pv",
+    "flash_tv",
+    "bubble_temperature",
+    "bubble_pressure",
+    "dew_temperature",
+    "dew_pressure",
+    "envelope",
+    "saturation_point",
+    "saturation_pressure",
+    "saturation_temperature",
+    "vaporization_enthalpy",
+    "lee_kesler_pressure",
+    "NEAR_CRITICAL",
+]
+
+VERIFY_FUGACITY = 1e-8  # max |ln f_y - ln f_x| of a returned split
+VERIFY_BALANCE = 1e-10  # max |beta y + (1 - beta) x - z| of a returned split
+ENTHALPY_TOLERANCE = 1e-6  # J/mol, PH target
+ENTROPY_TOLERANCE = 1e-9  # J/(mol K), PS target
+T_SEARCH_LOW = 10.0  # K, the temperature search of PH and PS flashes stays inside
+T_SEARCH_HIGH = 5000.0  # K
+FAST_PASS_STEPS = 12  # one-phase temperature search before the equilibrium search takes over
 
 
-class FlashError(RuntimeError):
-    """A flash that did not converge to a verified answer."""
+# --- preparing a request -------------------------------------------------------
+def _prepare(model, temperature, pressure, x):
+    """Validated, normalised composition and the indices of its nonzero components."""
+    x = np.asarray(x, dtype=float)
+    if x.shape != (model.mixture.size,):
+        raise StateInputError(
+            f"composition has {x.size} entries but the mixture has {model.mixture.size} components "
+            f"({', '.join(model.mixture.names)})"
+        )
+    check_state(temperature, pressure, x)
+    z = x / x.sum()
+    active = tuple(int(i) for i in np.flatnonzero(z > 0.0))
+    return z, active
 
 
-def flash_tp(model, temperature: float, pressure: float, x: np.ndarray) -> StreamState:
-    """Equilibrium state at T (K), P (Pa), composition x."""
-    return single_phase_state(model, temperature, pressure, x)
+def _is_cubic(model) -> bool:
+    return model.family == PRESSURE_EXPLICIT and isinstance(model, CubicModel)
 
 
-def _solve_temperature(model, pressure, x, target, prop, guess):
-    def miss(t):
-        return getattr(flash_tp(model, t, pressure, x), prop) - target
+def _embed(values: np.ndarray, active: tuple[int, ...], size: int) -> np.ndarray:
+    full = np.zeros(size)
+    full[list(active)] = values
+    return full
 
-    low, high = guess * 0.8, guess * 1.25
-    for _ in range(60):
-        if miss(low) < 0.0 < miss(high):
+
+# --- equilibrium at fixed T and P over the active components -------------------
+@dataclass(frozen=True)
+class _Equilibrium:
+    """The equilibrium at one (T, P): one phase (``split`` None, ``root``
+    the chosen volume root) or a two-phase split; ``notes`` for the stream."""
+
+    state: CubicAtTP
+    z: np.ndarray
+    split: Split | None
+    root: str
+    notes: tuple[str, ...]
+
+
+def _equilibrium(kernel: CubicKernel, temperature: float, pressure: float, z: np.ndarray, where: str,
+                 warm: Split | None = None) -> _Equilibrium:
+    """Phase equilibrium of feed z (over the kernel's components, all positive)."""
+    state = kernel.at(temperature, pressure)
+    if kernel.size == 1:
+        notes = (NEAR_CRITICAL,) if near_critical_pure(float(kernel.tc[0]), float(kernel.pc[0]), temperature, pressure) else ()
+        return _Equilibrium(state, z, None, "auto", notes)
+    ln_phi_feed, _, _ = state.ln_phi(z)
+    if warm is not None:
+        try:
+            result = split(state, z, np.exp(warm.ln_k), warm.beta)
+        except SplitError:
+            result = None
+        if result is not None and _lowers_gibbs(state, z, ln_phi_feed, result):
+            return _from_split(state, z, result, where)
+    try:
+        stability = stability_test(state, z, wilson_k(kernel.tc, kernel.pc, kernel.omega, temperature, pressure), ln_phi_feed)
+    except StabilityError as error:
+        raise FlashError(f"{where}: stability test failed: {error}") from None
+    if stability.stable:
+        return _Equilibrium(state, z, None, "auto", (NEAR_CRITICAL,) if stability.slow else ())
+    result = None
+    for start in (stability.k_estimate, wilson_k(kernel.tc, kernel.pc, kernel.omega, temperature, pressure)):
+        try:
+            result = split(state, z, start)
+        except SplitError:
+            result = None
+        if result is not None:
             break
-        low, high = max(low * 0.8, 20.0), high * 1.25
-    else:
-        raise FlashError(f"no temperature at P = {pressure:.6g} Pa gives {prop} = {target:.6g}")
-    t = brentq(miss, low, high, xtol=1e-10, rtol=1e-13)
-    return flash_tp(model, t, pressure, x)
+    if result is None:
+        raise FlashError(
+            f"{where}: the stability test found the feed unstable, but the two-phase split "
+            "collapsed to one phase or did not converge"
+        )
+    return _from_split(state, z, result, where)
 
 
+def _lowers_gibbs(state, z, ln_phi_feed, result: Split) -> bool:
+    g_feed = float(z @ (np.log(z) + ln_phi_feed))
+    g_split = (1.0 - result.beta) * float(result.x @ (np.log(result.x) + result.props_x.ln_phi)) + result.beta * float(
+        result.y @ (np.log(result.y) + result.props_y.ln_phi)
+    )
+    return g_split < g_feed - 1e-12
+
+
+def _from_split(state: CubicAtTP, z: np.ndarray, result: Split, where: str) -> _Equilibrium:
+    _verify_split(state, z, result, where)
+    notes = (NEAR_CRITICAL,) if near_critical_split(result.ln_k) else ()
+    if result.props_x.liquid_like and result.props_y.liquid_like:
+        notes = notes + (LIQUID_LIQUID,)
+    return _Equilibrium(state, z, result, "auto", notes)
+
+
+def _verify_split(state: CubicAtTP, z: np.ndarray, result: Split, where: str) -> None:
+    ln_phi_x, _, _ = state.ln_phi(result.x)
+    ln_phi_y, _, _ = state.ln_phi(result.y)
+    mismatch = float(np.max(np.abs(np.log(result.y) + ln_phi_y - np.log(result.x) - ln_phi_x)))
+    balance = float(np.max(np.abs(result.beta * result.y + (1.0 - result.beta) * result.x - z)))
+    if not (mismatch < VERIFY_FUGACITY and balance < VERIFY_BALANCE and 0.0 < result.beta < 1.0):
+        raise FlashError(
+            f"{where}: the two-phase split failed verification (ln-fugacity mismatch {mismatch:.3g}, "
+            f"mass-balance error {balance:.3g}, vapor fraction {result.beta:.6g})"
+        )
+
+
+def _check_third_phase(kernel: CubicKernel, eq: _Equilibrium, where: str) -> None:
+    """Refuse a two-phase answer whose phases are themselves unstable (a third
+    phase would form), which the two-phase flash cannot represent."""
+    if eq.split is None or kernel.size < 3:
+        return
+    state = eq.state
+    x = eq.split.x
+    try:
+        stability = stability_test(
+            state, x, wilson_k(kernel.tc, kernel.pc, kernel.omega, state.temperature, state.pressure)
+        )
+    except StabilityError:
+        return
+    if not stability.stable:
+        raise FlashError(
+            f"{where}: a third phase would form (the two-phase solution is unstable); "
+            "three-phase equilibrium is not supported"
+        )
+
+
+# --- building stream states ----------------------------------------------------
+def _stream(model, temperature: float, pressure: float, z_full: np.ndarray, active, eq: _Equilibrium) -> StreamState:
+    full = kernel_for(model).at(temperature, pressure)
+    size = model.mixture.size
+    if eq.split is None:
+        res = full.residual(z_full, eq.root)
+        label = LIQUID if res.root == LIQUID_LIKE else VAPOR
+        phase = phase_state(model, temperature, pressure, z_full, label, 1.0, res)
+        return combine_phases(model, temperature, pressure, z_full, (phase,), eq.notes)
+    result = eq.split
+    x_full = _embed(result.x, active, size)
+    y_full = _embed(result.y, active, size)
+    res_x = full.residual(x_full)
+    res_y = full.residual(y_full)
+    both_liquid = LIQUID_LIQUID in eq.notes
+    y_lighter = res_y.molar_volume >= res_x.molar_volume
+    light_label, heavy_label = (LIQUID, LIQUID) if both_liquid else (VAPOR, LIQUID)
+    label_y, label_x = (light_label, heavy_label) if y_lighter else (heavy_label, light_label)
+    phase_y = phase_state(model, temperature, pressure, y_full, label_y, result.beta, res_y)
+    phase_x = phase_state(model, temperature, pressure, x_full, label_x, 1.0 - result.beta, res_x)
+    phases = (phase_y, phase_x) if label_y == VAPOR else (phase_x, phase_y)
+    return combine_phases(model, temperature, pressure, z_full, phases, eq.notes)
+
+
+def _saturated_stream(model, point: SaturationPoint, z_full: np.ndarray, active, beta: float,
+                      notes: tuple[str, ...]) -> StreamState:
+    """A pure component at its saturation point with vapor fraction beta."""
+    t, p = point.temperature, point.pressure
+    full = kernel_for(model).at(t, p)
+    phases = []
+    if beta > 0.0:
+        phases.append(phase_state(model, t, p, z_full, VAPOR, beta, full.residual(z_full, "vapor")))
+    if beta < 1.0:
+        phases.append(phase_state(model, t, p, z_full, LIQUID, 1.0 - beta, full.residual(z_full, "liquid")))
+    return combine_phases(model, t, p, z_full, tuple(phases), notes)
+
+
+# --- TP flash ----------------------------------------------------------------
+def flash_tp(model, temperature: float, pressure: float, x: np.ndarray) -> StreamState:
+    """Equilibrium state at temperature (K), pressure (Pa) and overall mole
+    fractions x: one phase, or a vapor-liquid split.
+
+    Ideal-gas and virial streams are single-phase vapor. Raises FlashError
+    when no verified answer is reached; StateInputError for impossible input.
+    """
+    z, active = _prepare(model, temperature, pressure, x)
+    if not _is_cubic(model):
+        return single_phase_state(model, temperature, pressure, z)
+    kernel = kernel_for(model, active)
+    where = "TP flash of " + describe_state(model, z, T=temperature, P=pressure)
+    eq = _equilibrium(kernel, temperature, pressure, z[list(active)], where)
+    _check_third_phase(kernel, eq, where)
+    return _stream(model, temperature, pressure, z, active, eq)
+
+
+# --- PH and PS flashes -----------------------------------------------------------
 def flash_ph(model, pressure: float, enthalpy: float, x: np.ndarray, guess: float = 300.0) -> StreamState:
-    """State at P (Pa) with molar enthalpy ``enthalpy`` (J/mol)."""
-    return _solve_temperature(model, pressure, x, enthalpy, "enthalpy", guess)
+    """Equilibrium state at pressure (Pa) with molar enthalpy ``enthalpy``
+    (J/mol, the engine's reference state); ``guess`` (K) starts the
+    temperature search. Valves use it."""
+    return _flash_p_spec(model, pressure, enthalpy, x, guess, "H")
 
 
 def flash_ps(model, pressure: float, entropy: float, x: np.ndarray, guess: float = 300.0) -> StreamState:
-    """State at P (Pa) with molar entropy ``entropy`` (J/(mol K))."""
-    return _solve_temperature(model, pressure, x, entropy, "entropy", guess)
+    """Equilibrium state at pressure (Pa) with molar entropy ``entropy``
+    (J/(mol K)); ``guess`` (K) starts the temperature search. Compressors
+    and expanders use it."""
+    return _flash_p_spec(model, pressure, entropy, x, guess, "S")
+
+
+def _flash_p_spec(model, pressure, target, x, guess, kind) -> StreamState:
+    if not (isinstance(target, (int, float)) and math.isfinite(target)):
+        raise StateInputError(f"the {'enthalpy' if kind == 'H' else 'entropy'} target {target!r} is not a finite number")
+    if not (math.isfinite(guess) and guess > 0.0):
+        guess = 300.0
+    z, active = _prepare(model, guess, pressure, x)
+    spec = {"P": pressure, kind: target}
+    where = ("PH" if kind == "H" else "PS") + " flash of " + describe_state(model, z, **spec)
+    tolerance = ENTHALPY_TOLERANCE if kind == "H" else ENTROPY_TOLERANCE
+    if not _is_cubic(model):
+        return _single_model_p_spec(model, pressure, target, z, guess, kind, where, tolerance)
+    kernel = kernel_for(model, active)
+    za = z[list(active)]
+    if kernel.size == 1:
+        return _pure_p_spec(model, kernel, pressure, target, z, active, guess, kind, where, tolerance)
+    return _mixture_p_spec(model, kernel, pressure, target, z, za, active, guess, kind, where, tolerance)
+
+
+def _search_temperature(evaluate, target, guess, low, high, tolerance, where, what, max_steps=200):
+    """Temperature (K) at which evaluate(T) -> (value, d value/dT, payload)
+    meets ``target``, for a value rising with T: Newton's method inside a
+    maintained bracket, bisection when Newton leaves the bracket or stops
+    halving the miss; one-sided steps are limited so that a phase boundary
+    is approached, not jumped. Returns (T, payload); raises FlashError when
+    no temperature in [low, high] meets the target."""
+    t = min(max(guess, low * 1.001), high * 0.999)
+    below = above = None  # temperatures known to give values below / above the target
+    previous = math.inf
+    for _ in range(max_steps):
+        value, slope, payload = evaluate(t)
+        miss = value - target
+        if abs(miss) <= tolerance:
+            return t, payload
+        if miss < 0.0:
+            below = t
+            if t >= high * 0.999:
+                raise FlashError(f"{where}: the {what} target lies above what {high:.6g} K gives")
+        else:
+            above = t
+            if t <= low * 1.001:
+                raise FlashError(f"{where}: the {what} target lies below what {low:.6g} K gives")
+        lo = below if below is not None else low
+        hi = above if above is not None else high
+        if hi - lo <= 1e-13 * t:
+            raise FlashError(
+                f"{where}: no temperature meets the {what} target: the {what} jumps across it at {t:.10g} K"
+            )
+        newton = t - miss / slope if slope > 0.0 and math.isfinite(slope) else math.nan
+        if below is not None and above is not None:
+            progressing = abs(miss) <= 0.5 * previous
+            candidate = newton if (lo < newton < hi and progressing) else 0.5 * (lo + hi)
+        else:
+            candidate = min(max(newton, t * 0.6), t * 1.6) if math.isfinite(newton) else (
+                t * 1.3 if miss < 0.0 else t / 1.3
+            )
+            if not lo < candidate < hi:
+                candidate = 0.5 * (t + (hi if miss < 0.0 else lo))
+        previous = abs(miss)
+        t = candidate
+    raise FlashError(f"{where}: the temperature search did not converge in {max_steps} steps")
+
+
+def _single_model_p_spec(model, pressure, target, z, guess, kind, where, tolerance):
+    """Vapor-only models (ideal gas, virial): one phase, a smooth rising H(T)."""
+    step = 1e-4
+
+    def evaluate(t):
+        state = single_phase_state(model, t, pressure, z)
+        upper = single_phase_state(model, t * (1 + step), pressure, z)
+        value = state.enthalpy if kind == "H" else state.entropy
+        value_up = upper.enthalpy if kind == "H" else upper.entropy
+        return value, (value_up - value) / (t * step), state
+
+    try:
+        _, state = _search_temperature(evaluate, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where,
+                                       "enthalpy" if kind == "H" else "entropy")
+    except StateInputError as error:
+        raise FlashError(f"{where}: {error}") from None
+    return state
+
+
+def _phase_value(state: CubicAtTP, x: np.ndarray, root: str, kind: str) -> tuple[float, float, bool]:
+    """H (J/mol) or S (J/(mol K)) of one phase and its temperature derivative."""
+    h_res, s_res, cp_res, liquid = state.thermal(x, root)
+    cp = float(x @ state.ideal_heat_capacities()) + cp_res
+    if kind == "H":
+        return float(x @ state.ideal_enthalpies()) + h_res, cp, liquid
+    mixing = -R * float(x @ np.log(x)) if len(x) > 1 else 0.0
+    return float(x @ state.ideal_entropies()) + mixing + s_res, cp / state.temperature, liquid
+
+
+def _pure_p_spec(model, kernel, pressure, target, z_full, active, guess, kind, where, tolerance):
+    pc = float(kernel.pc[0])
+    tc = float(kernel.tc[0])
+    x = np.ones(1)
+    what = "enthalpy" if kind == "H" else "entropy"
+
+    def searcher(root):
+        def evaluate(t):
+            state = kernel.at(t, pressure)
+            value, slope, _ = _phase_value(state, x, root, kind)
+            return value, slope, None
+        return evaluate
+
+    low, high, root = T_SEARCH_LOW, T_SEARCH_HIGH, "auto"
+    if pressure < pc:
+        point = saturation_temperature_point(model, pressure, active[0])
+        sat = kernel.at(point.temperature, pressure)
+        liquid_value, _, _ = _phase_value(sat, x, "liquid", kind)
+        vapor_value, _, _ = _phase_value(sat, x, "vapor", kind)
+        if liquid_value <= target <= vapor_value:
+            beta = (target - liquid_value) / (vapor_value - liquid_value)
+            notes = (NEAR_CRITICAL,) if near_critical_pure(tc, pc, point.temperature, pressure) else ()
+            stream = _saturated_stream(model, point, z_full, active, beta, notes)
+            return _verified_target(stream, target, kind, tolerance, where)
+        if target < liquid_value:
+            high, root = point.temperature, "liquid"
+        else:
+            low, root = point.temperature, "vapor"
+    t, _ = _search_temperature(searcher(root), target, guess, low, high, tolerance, where, what)
+    notes = (NEAR_CRITICAL,) if near_critical_pure(tc, pc, t, pressure) else ()
+    res = kernel_for(model).at(t, pressure).residual(z_full, root)
+    if pressure < pc:
+        label = LIQUID if root == "liquid" else VAPOR
+    else:
+        label = LIQUID if res.root == LIQUID_LIKE else VAPOR
+    phase = phase_state(model, t, pressure, z_full, label, 1.0, res)
+    stream = combine_phases(model, t, pressure, z_full, (phase,), notes)
+    return _verified_target(stream, target, kind, tolerance, where)
+
+
+def _verified_target(stream: StreamState, target: float, kind: str, tolerance: float, where: str) -> StreamState:
+    value = stream.enthalpy if kind == "H" else stream.entropy
+    # Assembling the stream adds rounding of its own; allow a few ulps beyond the search tolerance.
+    if not abs(value - target) <= tolerance + 1e-12 * abs(target):
+        raise FlashError(
+            f"{where}: the state found misses the {'enthalpy' if kind == 'H' else 'entropy'} target by {value - target:.3g}"
+        )
+    return stream
+
+
+def _equilibrium_value(eq: _Equilibrium, kind: str) -> tuple[float, float]:
+    """H or S of an equilibrium (per mole of feed) and its temperature
+    derivative at constant P, phase change included."""
+    state = eq.state
+    if eq.split is None:
+        value, slope, _ = _phase_value(state, eq.z, eq.root, kind)
+        return value, slope
+    result = eq.split
+    dh_dt, _ = temperature_derivative(state, eq.z, result)
+    h_ideal = state.ideal_enthalpies()
+    if kind == "H":
+        value = result.beta * (float(result.y @ h_ideal) + result.props_y.enthalpy) + (1.0 - result.beta) * (
+            float(result.x @ h_ideal) + result.props_x.enthalpy
+        )
+        return value, dh_dt
+    s_ideal = state.ideal_entropies()
+    s_y = float(result.y @ s_ideal) - R * float(result.y @ np.log(result.y)) + result.props_y.entropy
+    s_x = float(result.x @ s_ideal) - R * float(result.x @ np.log(result.x)) + result.props_x.entropy
+    return result.beta * s_y + (1.0 - result.beta) * s_x, dh_dt / state.temperature
+
+
+def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, kind, where, tolerance):
+    what = "enthalpy" if kind == "H" else "entropy"
+    # First pass: one phase with its lowest-Gibbs root, no stability test on the way;
+    # the answer stands if the feed proves stable there.
+    single_t = None
+    try:
+        def single(t):
+            value, slope, _ = _phase_value(kernel.at(t, pressure), za, "auto", kind)
+            return value, slope, None
+
+        single_t, _ = _search_temperature(single, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what,
+                                          max_steps=FAST_PASS_STEPS)
+    except (FlashError, ArithmeticError):
+        single_t = None
+    if single_t is not None:
+        eq = _equilibrium(kernel, single_t, pressure, za, where)
+        if eq.split is None:
+            return _verified_target(_stream(model, single_t, pressure, z_full, active, eq), target, kind, tolerance, where)
+        guess = single_t
+    # Second pass: the equilibrium state at each temperature, warm-started from the last split.
+    last_split = [None]
+
+    def equilibrium(t):
+        eq = _equilibrium(kernel, t, pressure, za, where, last_split[0])
+        if eq.split is not None:
+            last_split[0] = eq.split
+        value, slope = _equilibrium_value(eq, kind)
+        return value, slope, eq
+
+    t, eq = _search_temperature(equilibrium, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what)
+    _check_third_phase(kernel, eq, where)
+    return _verified_target(_stream(model, t, pressure, z_full, active, eq), target, kind, tolerance, where)
+
+
+# --- flashes at a given vapor fraction; bubble and dew points ---------------------
+def _check_fraction(vapor_fraction: float) -> None:
+    if not (isinstance(vapor_fraction, (int, float)) and 0.0 <= vapor_fraction <= 1.0):
+        raise StateInputError(f"vapor fraction {vapor_fraction!r} must lie between 0 and 1")
+
+
+def envelope(model, x: np.ndarray, vapor_fraction: float, temperature: float | None = None,
+             pressure: float | None = None) -> EnvelopePoint:
+    """The point of the phase envelope of feed x with the given vapor
+    fraction (0 bubble, 1 dew) at a fixed temperature (K; the pressure is
+    found) or fixed pressure (Pa; the temperature is found). Compositions in
+    the result are over the whole mixture."""
+    _check_fraction(vapor_fraction)
+    if (temperature is None) == (pressure is None):
+        raise ValueError("give exactly one of temperature and pressure")
+    fixed = "T" if temperature is not None else "P"
+    value = temperature if temperature is not None else pressure
+    z, active = _prepare(model, temperature or 300.0, pressure or 1e5, x)
+    spec = {"T": value} if fixed == "T" else {"P": value}
+    where = f"vapor fraction {vapor_fraction:g} point of " + describe_state(model, z, **spec)
+    if not _is_cubic(model):
+        raise FlashError(
+            f"{where}: the {model.name} model describes vapor only (it has no liquid root), "
+            "so it has no bubble or dew points; its streams are single-phase vapor"
+        )
+    size = model.mixture.size
+    if len(active) == 1:
+        if fixed == "T":
+            point = saturation_point(model, value, active[0])
+        else:
+            point = saturation_temperature_point(model, value, active[0])
+        return EnvelopePoint(point.temperature, point.pressure, float(vapor_fraction), z.copy(), z.copy(),
+                             np.zeros(size), point.fugacity_error)
+    kernel = kernel_for(model, active)
+    found = envelope_point(kernel, z[list(active)], float(vapor_fraction), fixed, value, where)
+    return EnvelopePoint(found.temperature, found.pressure, found.vapor_fraction, _embed(found.x, active, size),
+                         _embed(found.y, active, size), _embed(found.ln_k, active, size), found.fugacity_error)
+
+
+def bubble_pressure(model, temperature: float, x: np.ndarray) -> float:
+    """Bubble-point pressure, Pa, of liquid of mole fractions x at T (K)."""
+    return envelope(model, x, 0.0, temperature=temperature).pressure
+
+
+def bubble_temperature(model, pressure: float, x: np.ndarray) -> float:
+    """Bubble-point temperature, K, of liquid of mole fractions x at P (Pa)."""
+    return envelope(model, x, 0.0, pressure=pressure).temperature
+
+
+def dew_pressure(model, temperature: float, x: np.ndarray) -> float:
+    """Dew-point pressure, Pa, of vapor of mole fractions x at T (K)."""
+    return envelope(model, x, 1.0, temperature=temperature).pressure
+
+
+def dew_temperature(model, pressure: float, x: np.ndarray) -> float:
+    """Dew-point temperature, K, of vapor of mole fractions x at P (Pa)."""
+    return envelope(model, x, 1.0, pressure=pressure).temperature
+
+
+def _stream_at_fraction(model, point: EnvelopePoint, z: np.ndarray, active) -> StreamState:
+    t, p, beta = point.temperature, point.pressure, point.vapor_fraction
+    notes = ()
+    if len(active) == 1:
+        if near_critical_pure(float(model.mixture.critical_temperature[active[0]]),
+                              float(model.mixture.critical_pressure[active[0]]), t, p):
+            notes = (NEAR_CRITICAL,)
+    elif near_critical_split(point.ln_k[list(active)]):
+        notes = (NEAR_CRITICAL,)
+    full = kernel_for(model).at(t, p)
+    phases = []
+    if beta > 0.0:
+        y = point.y if beta < 1.0 else z
+        phases.append(phase_state(model, t, p, y, VAPOR, beta, full.residual(y, "vapor" if len(active) == 1 else "auto")))
+    if beta < 1.0:
+        x = point.x if beta > 0.0 else z
+        phases.append(phase_state(model, t, p, x, LIQUID, 1.0 - beta, full.residual(x, "liquid" if len(active) == 1 else "auto")))
+    return combine_phases(model, t, p, z, tuple(phases), notes)
+
+
+def flash_pv(model, pressure: float, vapor_fraction: float, x: np.ndarray) -> StreamState:
+    """Equilibrium state at pressure (Pa) with the given vapor fraction
+    (mol vapor per mol stream, 0 = saturated liquid, 1 = saturated vapor):
+    the temperature is found. Heaters with a vapor-fraction outlet use it."""
+    _check_fraction(vapor_fraction)
+    z, active = _prepare(model, 300.0, pressure, x)
+    point = envelope(model, z, vapor_fraction, pressure=pressure)
+    return _stream_at_fraction(model, point, z, active)
+
+
+def flash_tv(model, temperature: float, vapor_fraction: float, x: np.ndarray) -> StreamState:
+    """Equilibrium state at temperature (K) with the given vapor fraction:
+    the pressure is found."""
+    _check_fraction(vapor_fraction)
+    z, active = _prepare(model, temperature, 1e5, x)
+    point = envelope(model, z, vapor_fraction, temperature=temperature)
+    return _stream_at_fraction(model, point, z, active)

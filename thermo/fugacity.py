@@ -1,0 +1,430 @@
+"""Fugacity coefficients of the generic two-parameter cubic, and their
+derivatives, at a fixed temperature and pressure: what the flash needs.
+
+The flash evaluates ln(phi) thousands of times at one (T, P) for changing
+compositions, so the temperature-dependent parts (the attraction matrix
+a_ij(T) and its temperature derivatives) are built once per (T, P) and every
+composition costs a handful of vector operations and one cubic.
+
+Everything follows from the reduced residual Helmholtz energy of the cubic,
+
+    F(T, V, n) = -n ln(1 - B/V) - D(T) f(V, B) / T,
+    f = ln((V + d1 B)/(V + d2 B)) / (R B (d1 - d2)),
+    B = sum n_i b_i,  D = sum_ij n_i n_j a_ij(T),
+
+and the general relations of Michelsen and Mollerup, *Thermodynamic Models:
+Fundamentals and Computational Aspects* (2nd ed., 2007), ch. 2-3, for ln(phi)
+and its derivatives at constant T and P. The constants are read from the
+model's public parameters and mixture, so the results agree with
+``thermo.departures.residual`` for the same model.
+
+SI units throughout: K, Pa, m3/mol, J/mol, J/(mol K).
+"""
+
+from __future__ import annotations
+
+import math
+import weakref
+from dataclasses import dataclass
+
+import numpy as np
+
+from .components import R
+from .departures import LIQUID_LIKE, VAPOR_LIKE, Residual
+from .models.cubic import CubicModel
+
+
+@dataclass(frozen=True)
+class PhaseDerivatives:
+    """One phase at (T, P, x) with the derivatives the flash uses.
+
+    ``dlnphi_dn[i, j]`` is n d ln(phi_i)/d n_j at constant T, P (per mole of
+    phase, dimensionless); ``dlnphi_dT`` is 1/K, ``dlnphi_dP`` is 1/Pa.
+    Residual enthalpy J/mol, entropy J/(mol K), heat capacity Cp_res J/(mol K),
+    Gibbs energy J/mol, molar volume m3/mol.
+    """
+
+    ln_phi: np.ndarray
+    dlnphi_dn: np.ndarray
+    dlnphi_dT: np.ndarray
+    dlnphi_dP: np.ndarray
+    compressibility: float
+    molar_volume: float
+    enthalpy: float
+    entropy: float
+    heat_capacity: float
+    gibbs: float
+    liquid_like: bool
+
+
+class CubicKernel:
+    """Constants of one cubic model over a subset of its components
+    (``active``: indices into the model's mixture)."""
+
+    def __init__(self, model: CubicModel, active: tuple[int, ...]):
+        mixture = model.mixture
+        parameters = model.parameters
+        index = np.asarray(active, dtype=int)
+        self.model = model
+        self.active = active
+        self.size = len(active)
+        tc = mixture.critical_temperature[index]
+        pc = mixture.critical_pressure[index]
+        self.tc = tc
+        self.pc = pc
+        self.omega = mixture.acentric_factor[index]
+        sqrt_ac = np.sqrt(parameters.omega_a * (R * tc) ** 2 / pc)
+        kappa = parameters.kappa(mixture.acentric_factor)[index]
+        # sqrt(a_i(T)) = q0_i - q1_i sqrt(T), the Soave-form alpha function
+        self.q0 = sqrt_ac * (1.0 + kappa)
+        self.q1 = sqrt_ac * kappa / np.sqrt(tc)
+        self.b = parameters.omega_b * R * tc / pc  # m3/mol
+        self.one_minus_k = 1.0 - mixture.kij[np.ix_(index, index)]
+        self.delta1 = parameters.delta1
+        self.delta2 = parameters.delta2
+        self.span = parameters.delta1 - parameters.delta2
+        self.coef_b = parameters.delta1 + parameters.delta2
+        self.coef_bb = parameters.delta1 * parameters.delta2
+        # A lone root denser than the model's own critical density is liquid-like.
+        self.liquid_z_over_b = parameters.critical_compressibility / parameters.omega_b
+        self.cp_coefficients = mixture.cp_coefficients[index]
+
+    def at(self, temperature: float, pressure: float) -> "CubicAtTP":
+        """The kernel fixed at T (K) and P (Pa)."""
+        return CubicAtTP(self, temperature, pressure)
+
+
+_KERNELS: "weakref.WeakKeyDictionary[CubicModel, dict]" = weakref.WeakKeyDictionary()
+
+
+def kernel_for(model: CubicModel, active: tuple[int, ...] | None = None) -> CubicKernel:
+    """The (cached) cubic kernel of ``model`` over components ``active``
+    (indices; all components when None)."""
+    if active is None:
+        active = tuple(range(model.mixture.size))
+    per_model = _KERNELS.get(model)
+    if per_model is None:
+        per_model = {}
+        _KERNELS[model] = per_model
+    kernel = per_model.get(active)
+    if kernel is None:
+        kernel = CubicKernel(model, active)
+        per_model[active] = kernel
+    return kernel
+
+
+def _cubic_roots(c2: float, c1: float, c0: float) -> tuple[float, ...]:
+    """Real roots of z^3 + c2 z^2 + c1 z + c0, ascending, Newton-polished."""
+    shift = c2 / 3.0
+    p = c1 - c2 * shift
+    q = 2.0 * shift**3 - shift * c1 + c0
+    half_q = 0.5 * q
+    third_p = p / 3.0
+    disc = half_q * half_q + third_p**3
+    if disc > 0.0:
+        root_disc = math.sqrt(disc)
+        u = -half_q + root_disc
+        v = -half_q - root_disc
+        t = math.copysign(abs(u) ** (1.0 / 3.0), u) + math.copysign(abs(v) ** (1.0 / 3.0), v)
+        roots = (t - shift,)
+    elif third_p >= 0.0:
+        roots = (-shift,)
+    else:
+        r = math.sqrt(-third_p)
+        phi = math.acos(max(-1.0, min(1.0, -half_q / (r * r * r))))
+        two_r = 2.0 * r
+        roots = (
+            two_r * math.cos((phi + 2.0 * math.pi) / 3.0) - shift,
+            two_r * math.cos((phi + 4.0 * math.pi) / 3.0) - shift,
+            two_r * math.cos(phi / 3.0) - shift,
+        )
+        roots = tuple(sorted(roots))
+    polished = []
+    for z in roots:
+        for _ in range(4):
+            f = ((z + c2) * z + c1) * z + c0
+            df = (3.0 * z + 2.0 * c2) * z + c1
+            if df == 0.0:
+                break
+            step = f / df
+            z -= step
+            if abs(step) <= 1e-15 * abs(z):
+                break
+        polished.append(z)
+    return tuple(polished)
+
+
+class CubicAtTP:
+    """The cubic at one temperature (K) and pressure (Pa); methods take a
+    mole-fraction vector over the kernel's active components."""
+
+    __slots__ = (
+        "kernel", "temperature", "pressure", "sqrt_t", "q", "a", "big_a", "big_b",
+        "_a_t", "_a_tt",
+    )
+
+    def __init__(self, kernel: CubicKernel, temperature: float, pressure: float):
+        self.kernel = kernel
+        self.temperature = temperature
+        self.pressure = pressure
+        self.sqrt_t = math.sqrt(temperature)
+        q = kernel.q0 - kernel.q1 * self.sqrt_t
+        self.q = q
+        self.a = np.outer(q, q) * kernel.one_minus_k  # Pa m6/mol2
+        rt = R * temperature
+        self.big_a = self.a * (pressure / (rt * rt))
+        self.big_b = kernel.b * (pressure / rt)
+        self._a_t = None
+        self._a_tt = None
+
+    # --- roots ------------------------------------------------------------
+    def _roots(self, big_a: float, big_b: float) -> tuple[float, ...]:
+        k = self.kernel
+        c2 = (k.coef_b - 1.0) * big_b - 1.0
+        c1 = big_a + k.coef_bb * big_b * big_b - k.coef_b * big_b * (big_b + 1.0)
+        c0 = -(big_a * big_b + k.coef_bb * big_b * big_b * (big_b + 1.0))
+        return tuple(z for z in _cubic_roots(c2, c1, c0) if z > big_b)
+
+    def _choose(self, big_a: float, big_b: float, root: str) -> tuple[float, float, bool]:
+        """Compressibility, ln((Z + d1 B)/(Z + d2 B)) and liquid-likeness of the
+        root asked for ("auto": lowest Gibbs energy)."""
+        k = self.kernel
+        roots = self._roots(big_a, big_b)
+        if not roots:
+            raise ArithmeticError("no volume root")
+        d1, d2 = k.delta1, k.delta2
+        if len(roots) == 1 or root == "vapor":
+            z = roots[-1]
+            log_ratio = math.log((z + d1 * big_b) / (z + d2 * big_b))
+            liquid = z < k.liquid_z_over_b * big_b if len(roots) == 1 else False
+            return z, log_ratio, liquid
+        z_l = roots[0]
+        log_l = math.log((z_l + d1 * big_b) / (z_l + d2 * big_b))
+        if root == "liquid":
+            return z_l, log_l, True
+        z_v = roots[-1]
+        log_v = math.log((z_v + d1 * big_b) / (z_v + d2 * big_b))
+        scale = big_a / (big_b * k.span)
+        g_l = z_l - 1.0 - math.log(z_l - big_b) - scale * log_l
+        g_v = z_v - 1.0 - math.log(z_v - big_b) - scale * log_v
+        if g_l < g_v:
+            return z_l, log_l, True
+        return z_v, log_v, False
+
+    # --- fast path: ln(phi) only ----------------------------------------------
+    def ln_phi(self, x: np.ndarray, root: str = "auto") -> tuple[np.ndarray, float, bool]:
+        """ln(phi_i), Z and whether the root is liquid-like, at mole fractions x."""
+        s = self.big_a @ x
+        big_a = float(s @ x)
+        big_b = float(self.big_b @ x)
+        z, log_ratio, liquid = self._choose(big_a, big_b, root)
+        bi_b = self.big_b / big_b
+        ln_phi = bi_b * (z - 1.0) - math.log(z - big_b) - (
+            big_a / (big_b * self.kernel.span) * log_ratio
+        ) * (2.0 * s / big_a - bi_b)
+        return ln_phi, z, liquid
+
+    def reduced_gibbs(self, x: np.ndarray, root: str = "auto") -> float:
+        """G_res / (R T) of one mole at mole fractions x."""
+        big_a = float(x @ self.big_a @ x)
+        big_b = float(self.big_b @ x)
+        z, log_ratio, _ = self._choose(big_a, big_b, root)
+        return z - 1.0 - math.log(z - big_b) - big_a / (big_b * self.kernel.span) * log_ratio
+
+    # --- temperature derivatives of the attraction ------------------------------
+    def _attraction_t(self) -> tuple[np.ndarray, np.ndarray]:
+        if self._a_t is None:
+            k = self.kernel
+            t = self.temperature
+            dq = -k.q1 / (2.0 * self.sqrt_t)
+            d2q = k.q1 / (4.0 * self.sqrt_t * t)
+            q = self.q
+            cross = np.outer(dq, q)
+            self._a_t = (cross + cross.T) * k.one_minus_k
+            second = np.outer(d2q, q)
+            self._a_tt = (second + second.T + 2.0 * np.outer(dq, dq)) * k.one_minus_k
+        return self._a_t, self._a_tt
+
+    # --- residual properties without composition derivatives ------------------
+    def residual_terms(self, x: np.ndarray, root: str = "auto") -> tuple[float, float, float, float, bool, np.ndarray]:
+        """Z, molar volume (m3/mol), H_res (J/mol), S_res (J/(mol K)),
+        liquid-likeness and ln(phi) at mole fractions x."""
+        t = self.temperature
+        s = self.big_a @ x
+        big_a = float(s @ x)
+        big_b = float(self.big_b @ x)
+        z, log_ratio, liquid = self._choose(big_a, big_b, root)
+        span = self.kernel.span
+        bi_b = self.big_b / big_b
+        ln_phi = bi_b * (z - 1.0) - math.log(z - big_b) - (big_a / (big_b * span) * log_ratio) * (
+            2.0 * s / big_a - bi_b
+        )
+        a_t, _ = self._attraction_t()
+        a = float(x @ self.a @ x)
+        da = float(x @ a_t @ x)
+        b = float(self.kernel.b @ x)
+        rt = R * t
+        # F and T dF/dT at (T, V) from the reduced variables (V/b = Z/B).
+        f_value = -math.log(1.0 - big_b / z) - a / (rt * b * span) * log_ratio
+        minus_t_ft = (t * da - a) * log_ratio / (rt * b * span)
+        ln_z = math.log(z)
+        h_res = rt * (minus_t_ft + z - 1.0)
+        s_res = R * (minus_t_ft - f_value + ln_z)
+        volume = z * rt / self.pressure
+        return z, volume, h_res, s_res, liquid, ln_phi
+
+    def residual(self, x: np.ndarray, root: str = "auto") -> Residual:
+        """The engine's Residual record at mole fractions x (root as asked)."""
+        z, volume, h_res, s_res, liquid, ln_phi = self.residual_terms(x, root)
+        rt = R * self.temperature
+        return Residual(
+            temperature=self.temperature,
+            pressure=self.pressure,
+            compressibility=z,
+            molar_volume=volume,
+            enthalpy=h_res,
+            entropy=s_res,
+            gibbs=h_res - self.temperature * s_res,
+            ln_phi=ln_phi,
+            root=LIQUID_LIKE if liquid else VAPOR_LIKE,
+        )
+
+    # --- thermal properties without composition derivatives ------------------
+    def thermal(self, x: np.ndarray, root: str = "auto") -> tuple[float, float, float, bool]:
+        """H_res (J/mol), S_res (J/(mol K)), Cp_res (J/(mol K)) and
+        liquid-likeness at mole fractions x: what a temperature search needs."""
+        k = self.kernel
+        t, p = self.temperature, self.pressure
+        big_a = float(x @ self.big_a @ x)
+        big_b = float(self.big_b @ x)
+        z, log_ratio, liquid = self._choose(big_a, big_b, root)
+        a_t, a_tt = self._attraction_t()
+        d = float(x @ self.a @ x)
+        d_t = float(x @ a_t @ x)
+        d_tt = float(x @ a_tt @ x)
+        b = float(k.b @ x)
+        rt = R * t
+        v = z * rt / p
+        v1, v2 = v + k.delta1 * b, v + k.delta2 * b
+        v_minus_b = v - b
+        f = log_ratio / (R * b * k.span)
+        f_v = -1.0 / (R * v1 * v2)
+        f_vv = (2.0 * v + k.coef_b * b) / (R * (v1 * v2) ** 2)
+        shift = (d - t * d_t) / (t * t)
+        big_f = -math.log(1.0 - b / v) - d / t * f
+        f_t = f * shift
+        f_tt = f * (-d_tt / t - 2.0 * d / t**3 + 2.0 * d_t / t**2)
+        f_vv_total = 1.0 / v_minus_b**2 - 1.0 / v**2 - d / t * f_vv
+        p_v = -rt * f_vv_total - rt / (v * v)
+        p_t = p / t - rt * f_v * shift
+        minus_t_ft = -t * f_t
+        ln_z = math.log(z)
+        return (
+            rt * (minus_t_ft + z - 1.0),
+            R * (minus_t_ft - big_f + ln_z),
+            R * (-t * t * f_tt - 2.0 * t * f_t) - t * p_t * p_t / p_v - R,
+            liquid,
+        )
+
+    # --- full second-order information ----------------------------------------
+    def derivatives(self, x: np.ndarray, root: str = "auto") -> PhaseDerivatives:
+        """ln(phi) with its composition, temperature and pressure derivatives,
+        and H_res, S_res, Cp_res, G_res at mole fractions x (one mole)."""
+        k = self.kernel
+        t, p = self.temperature, self.pressure
+        rt = R * t
+        big_a = float(x @ self.big_a @ x)
+        big_b = float(self.big_b @ x)
+        z, log_ratio, liquid = self._choose(big_a, big_b, root)
+        a_t, a_tt = self._attraction_t()
+        bi = k.b
+        ai = self.a @ x
+        ai_t = a_t @ x
+        d = float(ai @ x)
+        d_t = float(ai_t @ x)
+        d_tt = float(x @ a_tt @ x)
+        d_i = 2.0 * ai
+        d_it = 2.0 * ai_t
+        b = float(bi @ x)
+        v = z * rt / p
+        d1, d2 = k.delta1, k.delta2
+        v1, v2 = v + d1 * b, v + d2 * b
+        v_minus_b = v - b
+        g = math.log(1.0 - b / v)
+        g_v = b / (v * v_minus_b)
+        g_b = -1.0 / v_minus_b
+        g_vv = -1.0 / v_minus_b**2 + 1.0 / v**2
+        g_bv = 1.0 / v_minus_b**2
+        g_bb = -1.0 / v_minus_b**2
+        f = log_ratio / (R * b * k.span)
+        f_v = -1.0 / (R * v1 * v2)
+        f_b = -(f + v * f_v) / b
+        f_vv = (2.0 * v + k.coef_b * b) / (R * (v1 * v2) ** 2)
+        f_bv = -(2.0 * f_v + v * f_vv) / b
+        f_bb = -(2.0 * f_b + v * f_bv) / b
+        d_over_t = d / t
+        shift = (d - t * d_t) / (t * t)
+        big_f = -g - d_over_t * f
+        f_t = f * shift
+        f_tt = f * (-d_tt / t - 2.0 * d / t**3 + 2.0 * d_t / t**2)
+        f_vv_total = -g_vv - d_over_t * f_vv
+        f_vt = f_v * shift
+        f_big_b = -g_b - d_over_t * f_b
+        f_big_d = -f / t
+        f_nb = -g_b
+        f_bv_total = -g_bv - d_over_t * f_bv
+        f_bb_total = -g_bb - d_over_t * f_bb
+        f_dv = -f_v / t
+        f_bd = -f_b / t
+        f_bt = f_b * shift
+        f_dt = f / (t * t)
+        f_i = -g + f_big_b * bi + f_big_d * d_i
+        b_d = np.outer(bi, d_i)
+        b_plus = bi[:, None] + bi[None, :]
+        f_ij = f_nb * b_plus + f_bd * (b_d + b_d.T) + f_bb_total * np.outer(bi, bi) + f_big_d * 2.0 * self.a
+        f_iv = -g_v + f_bv_total * bi + f_dv * d_i
+        f_it = f_bt * bi + f_dt * d_i + f_big_d * d_it
+        p_v = -rt * f_vv_total - rt / (v * v)
+        p_t = p / t - rt * f_vt
+        p_i = -rt * f_iv + rt / v
+        partial_volume = -p_i / p_v
+        ln_z = math.log(z)
+        minus_t_ft = -t * f_t
+        return PhaseDerivatives(
+            ln_phi=f_i - ln_z,
+            dlnphi_dn=f_ij + 1.0 + np.outer(p_i, p_i) / (rt * p_v),
+            dlnphi_dT=f_it + 1.0 / t - partial_volume * p_t / rt,
+            dlnphi_dP=partial_volume / rt - 1.0 / p,
+            compressibility=z,
+            molar_volume=v,
+            enthalpy=rt * (minus_t_ft + z - 1.0),
+            entropy=R * (minus_t_ft - big_f + ln_z),
+            heat_capacity=R * (-t * t * f_tt - 2.0 * t * f_t) - t * p_t * p_t / p_v - R,
+            gibbs=rt * (big_f + z - 1.0 - ln_z),
+            liquid_like=liquid,
+        )
+
+    # --- ideal-gas parts over the active components -----------------------------
+    def ideal_enthalpies(self) -> np.ndarray:
+        """Pure ideal-gas enthalpies of the active components at T, J/mol."""
+        from .components import T_REF
+
+        t = self.temperature
+        powers = np.array([t, t * t / 2, t**3 / 3, t**4 / 4, t**5 / 5])
+        ref = np.array([T_REF, T_REF**2 / 2, T_REF**3 / 3, T_REF**4 / 4, T_REF**5 / 5])
+        return self.kernel.cp_coefficients @ (powers - ref)
+
+    def ideal_entropies(self) -> np.ndarray:
+        """Pure ideal-gas entropies of the active components at T and P,
+        J/(mol K) (no entropy of mixing)."""
+        from .components import P_REF, T_REF
+
+        t = self.temperature
+        powers = np.array([math.log(t), t, t * t / 2, t**3 / 3, t**4 / 4])
+        ref = np.array([math.log(T_REF), T_REF, T_REF**2 / 2, T_REF**3 / 3, T_REF**4 / 4])
+        return self.kernel.cp_coefficients @ (powers - ref) - R * math.log(self.pressure / P_REF)
+
+    def ideal_heat_capacities(self) -> np.ndarray:
+        """Pure ideal-gas Cp of the active components at T, J/(mol K)."""
+        t = self.temperature
+        return self.kernel.cp_coefficients @ np.array([1.0, t, t * t, t**3, t**4])

@@ -1,0 +1,167 @@
+"""The tangent-plane stability test of a feed at fixed T and P
+(Michelsen, Fluid Phase Equilib. 9 (1982) 1-19).
+
+A feed z is unstable when some trial composition w has a negative
+tangent-plane distance. In terms of unnormalised trial moles W,
+
+    tm(W) = 1 + sum_i W_i (ln W_i + ln phi_i(w) - d_i - 1),
+    d_i = ln z_i + ln phi_i(z),
+
+whose stationary points satisfy ln W_i = d_i - ln phi_i(w). Two trials are
+started from Wilson's K-values, one vapor-like (W = z K) and one liquid-like
+(W = z / K). Each is iterated by successive substitution, with Michelsen's
+dominant-eigenvalue extrapolation every few steps, and finished by Newton's
+method on alpha_i = 2 sqrt(W_i) when substitution is slow. Any W with
+tm < 0 proves instability; stability needs every trial to end at the
+trivial solution (W = z) or at a stationary point with tm >= 0.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .fugacity import CubicAtTP
+
+UNSTABLE_TM = -1e-9  # tm below this proves instability beyond rounding
+TRIVIAL_DISTANCE = 1e-8  # sum (ln W - ln z)^2 below this: the trial has fallen onto the feed
+CONVERGED_STEP = 1e-10  # max |delta ln W| of a converged stationary point
+SUBSTITUTION_STEPS = 40  # before the Newton finish
+NEWTON_STEPS = 30
+ACCELERATE_EVERY = 5
+
+
+@dataclass(frozen=True)
+class TrialResult:
+    """Where one trial phase ended: its normalised composition, tm, and how."""
+
+    kind: str  # "vapor-like" or "liquid-like"
+    composition: np.ndarray
+    tm: float
+    outcome: str  # "unstable", "trivial", "stationary"
+    iterations: int
+
+
+@dataclass(frozen=True)
+class StabilityResult:
+    """Outcome of the stability test at one T (K), P (Pa) and feed.
+
+    ``k_estimate`` (y/x) seeds a two-phase flash when the feed is unstable.
+    ``slow`` marks a test whose trials converged slowly toward the feed:
+    the sign of a near-critical state.
+    """
+
+    stable: bool
+    trials: tuple[TrialResult, ...]
+    k_estimate: np.ndarray | None
+    slow: bool
+
+
+class StabilityError(ArithmeticError):
+    """A trial that neither proved instability nor reached a stationary point."""
+
+
+def _trial(state: CubicAtTP, z: np.ndarray, ln_z: np.ndarray, d: np.ndarray, ln_w: np.ndarray, kind: str) -> TrialResult:
+    previous_tm = math.inf
+    previous_delta = None
+    saved_plain = None
+    iterations = 0
+    for iterations in range(1, SUBSTITUTION_STEPS + 1):
+        w_moles = np.exp(ln_w)
+        total = float(w_moles.sum())
+        ln_phi, _, _ = state.ln_phi(w_moles / total)
+        ln_w_new = d - ln_phi
+        tm = 1.0 + float(w_moles @ (ln_w - ln_w_new - 1.0))
+        if saved_plain is not None and tm > previous_tm:
+            # The extrapolation overshot: return to the plain iterate.
+            ln_w = saved_plain
+            saved_plain = None
+            previous_delta = None
+            continue
+        saved_plain = None
+        if tm < UNSTABLE_TM:
+            return TrialResult(kind, w_moles / total, tm, "unstable", iterations)
+        delta = ln_w_new - ln_w
+        distance = float((ln_w_new - ln_z) @ (ln_w_new - ln_z))
+        if distance < TRIVIAL_DISTANCE:
+            return TrialResult(kind, z, 0.0, "trivial", iterations)
+        if float(np.max(np.abs(delta))) < CONVERGED_STEP:
+            return TrialResult(kind, w_moles / total, tm, "stationary", iterations)
+        previous_tm = tm
+        if previous_delta is not None and iterations % ACCELERATE_EVERY == 0:
+            eigen = float(delta @ delta) / float(previous_delta @ delta) if float(previous_delta @ delta) != 0.0 else 0.0
+            if 0.0 < eigen < 1.0:
+                saved_plain = ln_w_new
+                ln_w = ln_w_new + delta * (eigen / (1.0 - eigen))
+                previous_delta = None
+                continue
+        previous_delta = delta
+        ln_w = ln_w_new
+    return _newton_trial(state, z, ln_z, d, ln_w, kind, iterations)
+
+
+def _newton_trial(state, z, ln_z, d, ln_w, kind, done):
+    """Second-order finish on alpha = 2 sqrt(W), with step halving on tm."""
+    w_moles = np.exp(ln_w)
+    for step_count in range(1, NEWTON_STEPS + 1):
+        total = float(w_moles.sum())
+        props = state.derivatives(w_moles / total)
+        ln_phi = props.ln_phi
+        ln_w = np.log(w_moles)
+        residual = ln_w + ln_phi - d
+        tm = 1.0 + float(w_moles @ (residual - 1.0))
+        if tm < UNSTABLE_TM:
+            return TrialResult(kind, w_moles / total, tm, "unstable", done + step_count)
+        distance = float((ln_w - ln_z) @ (ln_w - ln_z))
+        if distance < TRIVIAL_DISTANCE:
+            return TrialResult(kind, z, 0.0, "trivial", done + step_count)
+        if float(np.max(np.abs(residual))) < CONVERGED_STEP:
+            return TrialResult(kind, w_moles / total, tm, "stationary", done + step_count)
+        root_w = np.sqrt(w_moles)
+        gradient = root_w * residual
+        hessian = np.eye(len(z)) + np.outer(root_w, root_w) * props.dlnphi_dn / total
+        try:
+            step = np.linalg.solve(hessian, -gradient)
+        except np.linalg.LinAlgError:
+            step = -gradient
+        alpha = 2.0 * root_w
+        for _ in range(20):
+            trial_alpha = alpha + step
+            trial_w = np.maximum(trial_alpha, 1e-150) ** 2 / 4.0
+            trial_total = float(trial_w.sum())
+            trial_phi, _, _ = state.ln_phi(trial_w / trial_total)
+            trial_tm = 1.0 + float(trial_w @ (np.log(trial_w) + trial_phi - d - 1.0))
+            if trial_tm <= tm + 1e-14 * max(1.0, abs(tm)):
+                break
+            step *= 0.5
+        w_moles = trial_w
+    raise StabilityError(f"{kind} trial phase did not converge in {done + NEWTON_STEPS} iterations")
+
+
+def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,
+                   ln_phi_feed: np.ndarray | None = None) -> StabilityResult:
+    """Tangent-plane test of feed z (mole fractions over the kernel's active
+    components, all positive) at the state's T and P, with trials seeded by
+    the K-values ``k_wilson``."""
+    ln_z = np.log(z)
+    if ln_phi_feed is None:
+        ln_phi_feed, _, _ = state.ln_phi(z)
+    d = ln_z + ln_phi_feed
+    ln_k = np.log(k_wilson)
+    vapor = _trial(state, z, ln_z, d, ln_z + ln_k, "vapor-like")
+    liquid = _trial(state, z, ln_z, d, ln_z - ln_k, "liquid-like")
+    trials = (vapor, liquid)
+    slow = any(t.outcome == "trivial" and t.iterations > SUBSTITUTION_STEPS // 2 for t in trials)
+    unstable_vapor = vapor.outcome == "unstable"
+    unstable_liquid = liquid.outcome == "unstable"
+    if not (unstable_vapor or unstable_liquid):
+        return StabilityResult(True, trials, None, slow)
+    if unstable_vapor and unstable_liquid:
+        k = vapor.composition / liquid.composition
+    elif unstable_vapor:
+        k = vapor.composition / z
+    else:
+        k = z / liquid.composition
+    return StabilityResult(False, trials, k, slow)
