@@ -38,14 +38,17 @@ class QuantityError(StatepathError, ValueError):
     """A value with a unit that cannot be read: no number, no unit, a unit of
     the wrong kind, or a value outside what is physically possible.
 
-    ``str()`` names what was wrong and shows an example of a right value.
+    ``str()`` names what was wrong and shows an example of a right value;
+    ``suggestions`` holds the value as it was probably meant, when that can be
+    guessed (a bare ``22`` for a pressure suggests ``"22 bara"``, ``"22 barg"``).
     """
 
     def __init__(self, message: str, *, text: object = None, kind: str | None = None,
-                 example: str | None = None):
+                 example: str | None = None, suggestions: Sequence[str] = ()):
         self.text = text
         self.kind = kind
         self.example = example
+        self.suggestions = tuple(suggestions)  # the value as it was probably meant, e.g. "22 barg"
         self.reason = message
         text_out = message.rstrip()
         if example and f'"{example}"' not in text_out:

@@ -324,11 +324,11 @@ def _split(text: object, kind: str) -> tuple[float, str, str]:
             text=text, kind=kind, example=example,
         )
     if not isinstance(text, str):
-        hints = " or ".join(f'"{_plain(text)} {unit}"' for unit in _HINT_UNITS[kind])
+        suggestions = [f"{_plain(text)} {unit}" for unit in _HINT_UNITS[kind]]
         raise QuantityError(
             f"{_plain(text)} is a bare number, but {_KIND_NAMES[kind]} needs a unit: "
-            f"write it as a string such as {hints}",
-            text=text, kind=kind, example=example,
+            f"write it as a string such as {' or '.join(repr_quoted(s) for s in suggestions)}",
+            text=text, kind=kind, example=example, suggestions=suggestions,
         )
     cleaned = text.replace("\u2212", "-").replace("\u00a0", " ")
     match = _NUMBER.match(cleaned)
@@ -350,12 +350,18 @@ def _split(text: object, kind: str) -> tuple[float, str, str]:
     number = float(number_text)
     unit = match.group("unit")
     if not unit:
-        hints = " or ".join(f'"{number_text} {u}"' for u in _HINT_UNITS[kind])
+        suggestions = [f"{number_text} {u}" for u in _HINT_UNITS[kind]]
         raise QuantityError(
-            f"{text!r} has no unit; {_KIND_NAMES[kind]} needs one, such as {hints}",
-            text=text, kind=kind, example=example,
+            f"{text!r} has no unit; {_KIND_NAMES[kind]} needs one, such as "
+            f"{' or '.join(repr_quoted(s) for s in suggestions)}",
+            text=text, kind=kind, example=example, suggestions=suggestions,
         )
     return number, unit, _normalise_unit(unit)
+
+
+def repr_quoted(text: str) -> str:
+    """``text`` in double quotes, as it would be written in the file."""
+    return f'"{text}"'
 
 
 def _plain(number: float | int) -> str:
