@@ -94,15 +94,33 @@ def library() -> dict[str, Component]:
     return {name: _record_to_component(name, record) for name, record in raw.items()}
 
 
+class AmbiguousComponentError(UnknownComponentError):
+    """A formula shared by several library components (isomers)."""
+
+    def __str__(self) -> str:
+        return (
+            f"component {self.name!r} is ambiguous: it is the formula of "
+            f"{', '.join(repr(s) for s in self.suggestions)}. Write the component's name instead."
+        )
+
+
 @lru_cache(maxsize=1)
-def _alias_index() -> dict[str, str]:
-    index: dict[str, str] = {}
+def _alias_index() -> tuple[dict[str, str], dict[str, list[str]]]:
+    names: dict[str, str] = {name.lower(): name for name in library()}
+    claims: dict[str, list[str]] = {}
     for name, component in library().items():
-        index[name.lower()] = name
         for alias in (component.formula, *component.aliases):
-            if alias:
-                index.setdefault(alias.lower(), name)
-    return index
+            key = alias.lower()
+            if alias and key not in names and name not in claims.setdefault(key, []):
+                claims[key].append(name)
+    index = dict(names)
+    ambiguous: dict[str, list[str]] = {}
+    for key, owners in claims.items():
+        if len(owners) == 1:
+            index[key] = owners[0]
+        else:
+            ambiguous[key] = owners
+    return index, ambiguous
 
 
 def resolve_name(name: str, user_names: tuple[str, ...] | frozenset[str] = ()) -> str:
@@ -114,9 +132,11 @@ def resolve_name(name: str, user_names: tuple[str, ...] | frozenset[str] = ()) -
     if name in user_names:
         return name
     key = name.strip().lower()
-    index = _alias_index()
+    index, ambiguous = _alias_index()
     if key in index:
         return index[key]
+    if key in ambiguous:
+        raise AmbiguousComponentError(name, ambiguous[key])
     candidates = sorted(set(index) | {n.lower() for n in user_names})
     close = difflib.get_close_matches(key, candidates, n=3, cutoff=0.6)
     suggestions: list[str] = []
