@@ -1,0 +1,476 @@
+"""Renderings of a solved flowsheet for the command line: a Rich table for the
+terminal, CSV for spreadsheets and Markdown for review comments.
+
+Every rendering reads a ``thermo.results.SheetResult`` (SI inside) and shows
+it in one display unit system ("SI", "metric" or "US", see
+``thermo.quantities``). Nothing here computes a property: it only converts
+and lays out.
+
+Flags (violations, cautions) always carry a symbol and a word, so they read
+the same with NO_COLOR set, in a CI log or on a monochrome terminal.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from dataclasses import dataclass
+
+from rich import box
+from rich.console import Console, Group, RenderableType
+from rich.table import Table
+from rich.text import Text
+
+from thermo.quantities import display_units, format_number, to_display
+from thermo.results import STATUS_ERROR, STATUS_OK, STATUS_VIOLATIONS, SheetResult, UnitResult
+
+#: The command line's spelling of a unit system -> thermo.quantities' name.
+UNIT_SYSTEM_CHOICES = {"si": "SI", "metric": "metric", "us": "US"}
+
+# Worst first. Each level: (symbol, ascii symbol, Rich style).
+_LEVELS = {
+    "violation": ("\u2716", "X", "bold red"),
+    "danger": ("\u25b2", "!!", "bold red"),
+    "warning": ("\u25b3", "!", "yellow"),
+    "notice": ("\u2022", "i", "cyan"),
+}
+_LEVEL_ORDER = tuple(_LEVELS)
+_STATUS_MARKS = {
+    STATUS_OK: ("\u2714", "ok", "green"),
+    STATUS_VIOLATIONS: ("\u2716", "X", "bold red"),
+    STATUS_ERROR: ("\u2716", "X", "bold red"),
+}
+
+
+@dataclass(frozen=True)
+class Flag:
+    """A violation or a caution, flattened for listing. ``level`` is
+    "violation" or a caution severity ("danger", "warning", "notice")."""
+
+    level: str
+    code: str
+    message: str
+    where: str
+
+    @property
+    def rank(self) -> int:
+        """0 for the worst level; unknown severities sort last."""
+        return _LEVEL_ORDER.index(self.level) if self.level in _LEVELS else len(_LEVELS)
+
+
+def collect_flags(result: SheetResult) -> list[Flag]:
+    """Every violation and caution of ``result``, worst first, then in unit
+    order; flowsheet-wide cautions after those of the units at each level."""
+    flags: list[Flag] = []
+    for unit in result.units.values():
+        for violation in unit.violations:
+            flags.append(Flag("violation", violation.code, violation.message, violation.where or unit.name))
+        for caution in unit.cautions:
+            flags.append(Flag(caution.severity, caution.code, caution.message, caution.where or unit.name))
+    for caution in result.cautions:
+        flags.append(Flag(caution.severity, caution.code, caution.message, caution.where or "flowsheet"))
+    return sorted(flags, key=lambda flag: flag.rank)  # stable: keeps unit order within a level
+
+
+def count_flags(result: SheetResult) -> tuple[int, int]:
+    """(violations, cautions) over the whole flowsheet."""
+    flags = collect_flags(result)
+    violations = sum(1 for flag in flags if flag.level == "violation")
+    return violations, len(flags) - violations
+
+
+def level_label(level: str, *, ascii_only: bool = False) -> str:
+    """``"\u2716 violation"``: the symbol and the word of a flag level."""
+    symbol = _LEVELS.get(level, ("?", "?", ""))[1 if ascii_only else 0]
+    return f"{symbol} {level}"
+
+
+def plural(count: int, word: str) -> str:
+    """``plural(1, "caution") == "1 caution"``, ``plural(2, ...) == "2 cautions"``."""
+    return f"{count} {word}{'' if count == 1 else 's'}"
+
+
+# ------------------------------------------------------------------ numbers
+
+
+def _number(value_SI: float | None, kind: str, system: str) -> str:
+    """A table cell: the value in the system's unit, without the unit (the
+    column header carries it); an em dash where there is no value."""
+    if value_SI is None:
+        return "\u2014"
+    return format_number(to_display(value_SI, kind, system), significant=5, max_decimals=_decimals(kind, system))
+
+
+def _decimals(kind: str, system: str) -> int:
+    # Enough to see a fraction of a kelvin or a millibar, no false precision beyond.
+    if kind == "temperature":
+        return 2
+    if kind == "pressure":
+        return {"SI": 2, "metric": 3, "US": 2}[system]
+    return 6
+
+
+def _vapor_phase(stream) -> str:
+    """The phase word; a two-phase stream adds its vapor fraction."""
+    state = stream.state
+    if state.phase == "two-phase":
+        return f"two-phase {format_number(state.vapor_fraction, significant=3, max_decimals=3)}"
+    return state.phase
+
+
+def _unit_flag_summary(unit: UnitResult, ascii_only: bool) -> str:
+    """The worst flags of a unit, one symbol and word per level present:
+    ``"\u2716 violation \u25b3 warning"``; ``"ok"`` when there are none."""
+    levels = [("violation", len(unit.violations))]
+    for level in _LEVEL_ORDER[1:]:
+        levels.append((level, sum(1 for c in unit.cautions if c.severity == level)))
+    unknown = sum(1 for c in unit.cautions if c.severity not in _LEVELS)
+    parts = []
+    for level, count in levels:
+        if count:
+            label = level_label(level, ascii_only=ascii_only)
+            parts.append(label if count == 1 else f"{label} x{count}")
+    if unknown:
+        parts.append(f"? {plural(unknown, 'caution')}")
+    return " ".join(parts) if parts else "ok"
+
+
+# ------------------------------------------------------------------ Rich
+
+
+def _ascii_console(console: Console) -> bool:
+    return not (console.encoding or "").lower().startswith("utf")
+
+
+def _header(label: str, kind: str | None, system: str) -> str:
+    """The label over its unit; a long unit breaks at its space so that the
+    column stays as narrow as its numbers."""
+    if kind is None:
+        return label
+    unit = display_units(kind, system)
+    if len(unit) > 11 and " " in unit:
+        unit = unit.replace(" ", "\n", 1)
+    return f"{label}\n{unit}"
+
+
+def _align_headers(table: Table) -> Table:
+    # Headers of two or three lines (label, unit) line up at their foot.
+    for column in table.columns:
+        column.vertical = "bottom"
+    return table
+
+
+def stream_table(result: SheetResult, system: str) -> Table:
+    """Streams: T, P, molar flow, vapor fraction and phase, molar H and S."""
+    table = Table(title="Streams", box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False)
+    table.add_column("stream", overflow="fold")
+    for label, kind in (
+        ("T", "temperature"),
+        ("P", "pressure"),
+        ("flow", "molar_flow"),
+    ):
+        table.add_column(_header(label, kind, system), justify="right")
+    table.add_column("phase\nvap. frac", min_width=len("supercritical"))
+    table.add_column(_header("H", "molar_energy", system), justify="right")
+    table.add_column(_header("S", "molar_entropy", system), justify="right")
+    for name, stream in result.streams.items():
+        state = stream.state
+        table.add_row(
+            name,
+            _number(state.temperature, "temperature", system),
+            _number(state.pressure, "pressure", system),
+            _number(stream.molar_flow, "molar_flow", system),
+            _vapor_phase(stream),
+            _number(state.enthalpy, "molar_energy", system),
+            _number(state.entropy, "molar_entropy", system),
+        )
+    return _align_headers(table)
+
+
+def unit_table(result: SheetResult, system: str, *, ascii_only: bool = False) -> Table:
+    """Units: type, duty or power, entropy generation, lost work and flags."""
+    table = Table(title="Units", box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False)
+    table.add_column("unit", overflow="fold")
+    table.add_column("type")
+    table.add_column(_header("duty", "power", system), justify="right")
+    table.add_column(_header("power", "power", system), justify="right")
+    table.add_column(_header("S gen", "entropy_rate", system), justify="right")
+    table.add_column(_header("lost work", "power", system), justify="right")
+    table.add_column("flags", overflow="fold")
+    for name, unit in result.units.items():
+        summary = _unit_flag_summary(unit, ascii_only)
+        table.add_row(
+            name,
+            unit.type,
+            _number(unit.duty_W, "power", system),
+            _number(unit.power_W, "power", system),
+            _number(unit.entropy_generation_W_K, "entropy_rate", system),
+            _number(unit.lost_work_W, "power", system),
+            Text(summary, style=_summary_style(unit)),
+        )
+    return _align_headers(table)
+
+
+def _summary_style(unit: UnitResult) -> str:
+    if unit.violations:
+        return _LEVELS["violation"][2]
+    for level in _LEVEL_ORDER[1:]:
+        if any(c.severity == level for c in unit.cautions):
+            return _LEVELS[level][2]
+    return ""
+
+
+def flag_table(flags: list[Flag], *, ascii_only: bool = False) -> Table:
+    """Violations and cautions, one a row: level, where, code, message."""
+    table = Table(title="Violations and cautions", box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False)
+    table.add_column("level", no_wrap=True)
+    table.add_column("where", overflow="fold")
+    table.add_column("code", overflow="fold")
+    table.add_column("message", ratio=1)
+    for flag in flags:
+        style = _LEVELS.get(flag.level, ("", "", ""))[2]
+        table.add_row(
+            Text(level_label(flag.level, ascii_only=ascii_only), style=style),
+            flag.where,
+            flag.code,
+            Text(flag.message),
+        )
+    return table
+
+
+def status_line(result: SheetResult, *, ascii_only: bool = False) -> Text:
+    """``"\u2714 ok: 0 violations, 2 cautions (peng-robinson)"``."""
+    symbol, ascii_symbol, style = _STATUS_MARKS.get(result.status, ("?", "?", ""))
+    violations, cautions = count_flags(result)
+    text = Text()
+    text.append(f"{ascii_symbol if ascii_only else symbol} {result.status}", style=style)
+    text.append(f": {plural(violations, 'violation')}, {plural(cautions, 'caution')}; model {result.model}")
+    if result.recycle_iterations:
+        text.append(f"; recycle converged in {plural(result.recycle_iterations, 'iteration')}")
+    return text
+
+
+def notes_lines(result: SheetResult) -> list[str]:
+    """Plain remarks of the units, ``"unit: note"``."""
+    return [f"{name}: {note}" for name, unit in result.units.items() for note in unit.notes]
+
+
+def rich_report(result: SheetResult, system: str, *, title: str | None = None,
+                ascii_only: bool = False) -> RenderableType:
+    """The whole solved sheet for the terminal: title, status, streams,
+    units, then violations and cautions, then notes."""
+    parts: list[RenderableType] = []
+    if title:
+        parts.append(Text(title, style="bold"))
+    parts.append(status_line(result, ascii_only=ascii_only))
+    parts.append(Text(f"units: {_system_caption(system)}", style="dim"))
+    if result.streams:
+        parts.append(stream_table(result, system))
+    if result.units:
+        parts.append(unit_table(result, system, ascii_only=ascii_only))
+    flags = collect_flags(result)
+    if flags:
+        parts.append(flag_table(flags, ascii_only=ascii_only))
+    else:
+        parts.append(Text("No violations or cautions."))
+    notes = notes_lines(result)
+    if notes:
+        parts.append(Text("Notes", style="bold"))
+        parts.extend(Text(f"  - {line}") for line in notes)
+    return Group(*parts)
+
+
+def _system_caption(system: str) -> str:
+    return {
+        "SI": "SI (K, kPa absolute, mol/s, kW)",
+        "metric": "metric (degC, bar absolute, kmol/h, kW)",
+        "US": "US (degF, psia, lbmol/h, Btu/h)",
+    }[system]
+
+
+def print_report(result: SheetResult, system: str, console: Console, *, title: str | None = None) -> None:
+    """Print ``rich_report`` on ``console``, in ASCII symbols when its
+    encoding cannot show the Unicode ones."""
+    console.print(rich_report(result, system, title=title, ascii_only=_ascii_console(console)))
+
+
+# ------------------------------------------------------------------ CSV
+
+
+def _csv_number(value_SI: float | None, kind: str | None, system: str) -> str:
+    if value_SI is None:
+        return ""
+    value = value_SI if kind is None else to_display(value_SI, kind, system)
+    return f"{float(value):.10g}"
+
+
+def _csv_column(name: str, kind: str, system: str) -> str:
+    return f"{name} [{display_units(kind, system)}]"
+
+
+def render_csv(result: SheetResult, system: str) -> str:
+    """Three CSV blocks separated by a blank line, each with its header row:
+    streams (first column ``stream``), units (``unit``) and flags (``level``).
+    Numbers carry full precision in the system's units, named in the header
+    (``temperature [degC]``); empty cells where a value does not apply."""
+    out = io.StringIO()
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow(
+        [
+            "stream",
+            _csv_column("temperature", "temperature", system),
+            _csv_column("pressure", "pressure", system),
+            _csv_column("molar_flow", "molar_flow", system),
+            _csv_column("mass_flow", "mass_flow", system),
+            "vapor_fraction",
+            "phase",
+            _csv_column("molar_enthalpy", "molar_energy", system),
+            _csv_column("molar_entropy", "molar_entropy", system),
+            "feed",
+        ]
+    )
+    for name, stream in result.streams.items():
+        state = stream.state
+        writer.writerow(
+            [
+                name,
+                _csv_number(state.temperature, "temperature", system),
+                _csv_number(state.pressure, "pressure", system),
+                _csv_number(stream.molar_flow, "molar_flow", system),
+                _csv_number(stream.mass_flow, "mass_flow", system),
+                _csv_number(state.vapor_fraction, None, system),
+                state.phase,
+                _csv_number(state.enthalpy, "molar_energy", system),
+                _csv_number(state.entropy, "molar_entropy", system),
+                "yes" if stream.is_feed else "no",
+            ]
+        )
+    out.write("\n")
+    writer.writerow(
+        [
+            "unit",
+            "type",
+            _csv_column("duty", "power", system),
+            _csv_column("power", "power", system),
+            _csv_column("entropy_generation", "entropy_rate", system),
+            _csv_column("lost_work", "power", system),
+            _csv_column("energy_balance_residual", "power", system),
+            "violations",
+            "cautions",
+        ]
+    )
+    for name, unit in result.units.items():
+        writer.writerow(
+            [
+                name,
+                unit.type,
+                _csv_number(unit.duty_W, "power", system),
+                _csv_number(unit.power_W, "power", system),
+                _csv_number(unit.entropy_generation_W_K, "entropy_rate", system),
+                _csv_number(unit.lost_work_W, "power", system),
+                _csv_number(unit.energy_balance_residual_W, "power", system),
+                len(unit.violations),
+                len(unit.cautions),
+            ]
+        )
+    out.write("\n")
+    writer.writerow(["level", "where", "code", "message"])
+    for flag in collect_flags(result):
+        writer.writerow([flag.level, flag.where, flag.code, flag.message])
+    return out.getvalue()
+
+
+# ------------------------------------------------------------------ Markdown
+
+
+def _md_cell(text: str) -> str:
+    return text.replace("\\", "\\\\").replace("|", "\\|").replace("\n", " ")
+
+
+def _md_table(header: list[str], rows: list[list[str]], right: set[int]) -> list[str]:
+    lines = ["| " + " | ".join(_md_cell(h) for h in header) + " |"]
+    lines.append("|" + "|".join("---:" if i in right else "---" for i in range(len(header))) + "|")
+    lines.extend("| " + " | ".join(_md_cell(cell) for cell in row) + " |" for row in rows)
+    return lines
+
+
+def render_markdown(result: SheetResult, system: str, *, title: str | None = None) -> str:
+    """GitHub-flavoured Markdown: a heading, the status, pipe tables of
+    streams and units, and a list of violations and cautions; for pasting
+    into a review or a report."""
+    unit_of = lambda kind: display_units(kind, system)  # noqa: E731
+    lines = [f"## {_md_cell(title)}" if title else "## Flowsheet result", ""]
+    lines.append(status_line(result).plain)
+    lines.append("")
+    lines.append(f"Units: {_system_caption(system)}.")
+    lines.append("")
+    if result.streams:
+        lines.append("### Streams")
+        lines.append("")
+        rows = [
+            [
+                name,
+                _number(s.state.temperature, "temperature", system),
+                _number(s.state.pressure, "pressure", system),
+                _number(s.molar_flow, "molar_flow", system),
+                format_number(s.state.vapor_fraction, significant=4, max_decimals=4),
+                s.state.phase,
+                _number(s.state.enthalpy, "molar_energy", system),
+                _number(s.state.entropy, "molar_entropy", system),
+            ]
+            for name, s in result.streams.items()
+        ]
+        header = [
+            "stream",
+            f"T ({unit_of('temperature')})",
+            f"P ({unit_of('pressure')})",
+            f"flow ({unit_of('molar_flow')})",
+            "vapor fraction",
+            "phase",
+            f"H ({unit_of('molar_energy')})",
+            f"S ({unit_of('molar_entropy')})",
+        ]
+        lines.extend(_md_table(header, rows, right={1, 2, 3, 4, 6, 7}))
+        lines.append("")
+    if result.units:
+        lines.append("### Units")
+        lines.append("")
+        rows = [
+            [
+                name,
+                u.type,
+                _number(u.duty_W, "power", system),
+                _number(u.power_W, "power", system),
+                _number(u.entropy_generation_W_K, "entropy_rate", system),
+                _number(u.lost_work_W, "power", system),
+                _unit_flag_summary(u, ascii_only=False),
+            ]
+            for name, u in result.units.items()
+        ]
+        header = [
+            "unit",
+            "type",
+            f"duty ({unit_of('power')})",
+            f"power ({unit_of('power')})",
+            f"S gen ({unit_of('entropy_rate')})",
+            f"lost work ({unit_of('power')})",
+            "flags",
+        ]
+        lines.extend(_md_table(header, rows, right={2, 3, 4, 5}))
+        lines.append("")
+    flags = collect_flags(result)
+    lines.append("### Violations and cautions")
+    lines.append("")
+    if flags:
+        lines.extend(
+            f"- **{level_label(f.level)}** `{f.code}` ({_md_cell(f.where)}): {_md_cell(f.message)}" for f in flags
+        )
+    else:
+        lines.append("None.")
+    notes = notes_lines(result)
+    if notes:
+        lines.append("")
+        lines.append("### Notes")
+        lines.append("")
+        lines.extend(f"- {_md_cell(line)}" for line in notes)
+    return "\n".join(lines) + "\n"
