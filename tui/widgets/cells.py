@@ -35,11 +35,20 @@ PINNING_KEYS = {
 }
 
 
+# Most decimals worth showing: a hundredth of a kelvin, a millibar, no false precision.
+MAX_DECIMALS = {"temperature": 2, "pressure": 3, "pressure_difference": 3, "molar_flow": 2, "mass_flow": 1,
+                "molar_energy": 1, "molar_entropy": 3, "power": 2, "entropy_rate": 4}
+
+
 def number(value_SI: float | None, kind: str, system: str, significant: int = 5) -> str:
-    """A value in the display unit of ``kind``, without the unit."""
+    """A value in the display unit of ``kind``, without the unit; sums that
+    cancel to rounding noise show as 0."""
     if value_SI is None:
         return "\u2014"
-    return format_number(to_display(value_SI, kind, system), significant=significant, max_decimals=4)
+    shown = to_display(value_SI, kind, system)
+    if kind in ("power", "entropy_rate", "molar_energy", "molar_entropy") and abs(value_SI) < 1e-7:
+        shown = 0.0
+    return format_number(shown, significant=significant, max_decimals=MAX_DECIMALS.get(kind, 4))
 
 
 def cell(text: str, entered: bool, style: str = "") -> Text:

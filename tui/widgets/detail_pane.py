@@ -33,8 +33,8 @@ class FieldList(DataTable):
     """The fields of the selection; enter or e edits, x clears a written one."""
 
     BINDINGS = [
-        Binding("e", "edit_field", "Edit field", show=True),
-        Binding("x,delete", "clear_field", "Clear field", show=True),
+        Binding("e", "edit_field", "Edit", show=True),
+        Binding("x,delete", "clear_field", "Clear", show=True),
     ]
 
     class EditWanted(Message):

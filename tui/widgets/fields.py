@@ -166,6 +166,17 @@ def _q(value: float | None, kind: str, system: str) -> str | None:
     return None if value is None else format_quantity(value, kind, system)
 
 
+def _converted(value: Any, kind: str, document: Mapping, system: str) -> str | None:
+    """An entered value with a unit, shown in the display units (gauge
+    pressures as absolute), so the two columns can be compared."""
+    if not isinstance(value, str) or kind not in QUANTITY_KINDS:
+        return None
+    try:
+        return format_quantity(parse_quantity(value, kind, atmospheric_pressure_Pa=_atmospheric(document)), kind, system)
+    except (QuantityError, ValueError):
+        return None
+
+
 def sheet_fields(document: Mapping, result, system: str) -> list[Field]:
     """Settings of the whole sheet: title, model, dead state, site limits."""
     rows: list[Field] = []
@@ -174,7 +185,7 @@ def sheet_fields(document: Mapping, result, system: str) -> list[Field]:
         for key in key_path:
             value = value.get(key) if isinstance(value, Mapping) else None
         kind = SHEET_KINDS[key_path[-1]]
-        computed = None
+        computed = _converted(value, kind, document, system)
         if key_path == ("model",) and value is None:
             computed = "peng-robinson (default)"
         rows.append(Field(key_path, ".".join(key_path), kind, None if value is None else shown(value), computed))
@@ -253,11 +264,14 @@ def unit_fields(document: Mapping, name: str, unit_result, system: str) -> list[
                     elif group.default and group.default[0] == key:
                         note = f"default {group.default[1]:g}"
                 rows.append(Field(("units", name, key), key, _unit_kind(key),
-                                  None if value is None else shown(value), note=note))
+                                  None if value is None else shown(value),
+                                  _converted(value, _unit_kind(key), document, system), note=note))
         for key in unit_type.optional:
             value = table.get(key)
             rows.append(Field(("units", name, key), key, _unit_kind(key),
-                              None if value is None else shown(value), note="" if value is not None else "optional"))
+                              None if value is None else shown(value),
+                              _converted(value, _unit_kind(key), document, system),
+                              note="" if value is not None else "optional"))
         for key, value in table.items():
             if key not in unit_type.allowed_keys:
                 rows.append(Field(("units", name, key), key, "text", shown(value), note="unknown key"))
@@ -291,3 +305,10 @@ def group_rivals(document: Mapping, key_path: tuple) -> list[tuple]:
         if key_path[2] in group.keys:
             return [("units", key_path[1], k) for k in group.keys if k != key_path[2] and k in table]
     return []
+
+
+def key_path_text(key_path: tuple) -> str:
+    """``units.choke.outlet_pressure`` for a key path."""
+    from thermo.errors import format_key_path
+
+    return format_key_path(key_path)

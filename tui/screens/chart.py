@@ -1,0 +1,46 @@
+"""The chart screen: the sheet's states on a P-H or T-S chart."""
+
+from __future__ import annotations
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.screen import Screen
+from textual.widgets import Footer, Static
+
+from tui.chart import CHART_TITLES, PRESSURE_ENTHALPY, TEMPERATURE_ENTROPY
+from tui.widgets.chart_view import ChartView
+
+
+class ChartScreen(Screen[None]):
+    """Shows the chart the app hands it; t switches P-H and T-S."""
+
+    BINDINGS = [
+        Binding("t", "toggle_kind", "P-H / T-S"),
+        Binding("escape,c,q", "close", "Back to the sheet"),
+    ]
+
+    def __init__(self, kind: str = PRESSURE_ENTHALPY) -> None:
+        super().__init__()
+        self.kind = kind
+
+    def compose(self) -> ComposeResult:
+        yield Static("", id="chart-title", classes="pane-title")
+        yield ChartView(id="chart")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        self.redraw()
+
+    def redraw(self) -> None:
+        data = self.app.chart_data_for(self.kind)
+        self.query_one("#chart-title", Static).update(
+            f" {CHART_TITLES[self.kind]} chart of {self.app.sheet_name}"
+            + ("  \u2026 stale: a solve is running" if self.app.solve_running else ""))
+        self.query_one(ChartView).show(data)
+
+    def action_toggle_kind(self) -> None:
+        self.kind = TEMPERATURE_ENTROPY if self.kind == PRESSURE_ENTHALPY else PRESSURE_ENTHALPY
+        self.redraw()
+
+    def action_close(self) -> None:
+        self.dismiss(None)

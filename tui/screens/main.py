@@ -1,0 +1,293 @@
+"""The main screen: streams on top, units and the detail pane below; on a
+small terminal only the current pane is open and the others fold to their
+title line (tab moves between them)."""
+
+from __future__ import annotations
+
+from typing import Mapping
+
+from rich.text import Text
+from textual import events
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.screen import Screen
+from textual.widgets import Footer, Static
+
+from thermo.spec import UNIT_TYPES
+from tui.widgets.banner import Banner
+from tui.widgets.detail_pane import DetailPane, FieldList
+from tui.widgets.field_editor import FieldEditor
+from tui.widgets.status_line import StatusLine
+from tui.widgets.stream_table import StreamTable
+from tui.widgets.unit_table import UnitTable
+
+PANES = ("streams", "units", "detail")
+NARROW_WIDTH = 100  # columns below which one pane is open at a time
+SHORT_HEIGHT = 30  # rows below which, likewise
+
+
+class MainScreen(Screen[None]):
+    """The sheet at work. Edits go to the app (``try_edit``); the app calls
+    ``refresh_all`` when the document or the result changes."""
+
+    BINDINGS = [
+        Binding("tab", "next_pane", "Next pane", show=False),
+        Binding("shift+tab", "previous_pane", "Previous pane", show=False),
+        Binding("1", "pane('streams')", "Streams", show=False),
+        Binding("2", "pane('units')", "Units", show=False),
+        Binding("3", "pane('detail')", "Detail", show=False),
+        Binding("a", "add_item", "Add"),
+        Binding("x,delete", "remove_item", "Del"),
+        Binding("n", "rename_item", "Name"),
+        Binding("g", "sheet_settings", "Sheet", show=False),
+        Binding("escape", "back", "Back", show=False),
+    ]
+
+    def __init__(self) -> None:
+        super().__init__(id="main")
+        self.selection: tuple[str, str | None] = ("sheet", None)
+        self.active = "streams"
+
+    def compose(self) -> ComposeResult:
+        yield Banner("", id="banner")
+        with Vertical(id="body"):
+            with Vertical(id="streams-pane", classes="pane"):
+                yield Static("", id="streams-title", classes="pane-title")
+                yield StreamTable(id="streams", classes="pane-body")
+            with Horizontal(id="lower"):
+                with Vertical(id="units-pane", classes="pane"):
+                    yield Static("", id="units-title", classes="pane-title")
+                    yield UnitTable(id="units", classes="pane-body")
+                yield DetailPane(id="detail-pane", classes="pane")
+        yield StatusLine(id="status")
+        yield Footer()
+
+    def on_mount(self) -> None:
+        self._apply_layout(self.app.size.width, self.app.size.height)
+        self.query_one(StreamTable).focus()
+        self.refresh_all()
+
+    def on_resize(self, event: events.Resize) -> None:
+        self._apply_layout(event.size.width, event.size.height)
+
+    # -------------------------------------------------------------- layout
+
+    @property
+    def narrow(self) -> bool:
+        return self.has_class("-narrow")
+
+    def _apply_layout(self, width: int, height: int) -> None:
+        self.set_class(width < NARROW_WIDTH or height < SHORT_HEIGHT, "-narrow")
+        self._fold()
+
+    def _fold(self) -> None:
+        for pane in PANES:
+            widget = self.query_one(f"#{pane}-pane")
+            widget.set_class(pane == self.active, "-active")
+            widget.set_class(self.narrow and pane != self.active, "-collapsed")
+        self._titles()
+
+    def _titles(self) -> None:
+        app = self.app
+        result = app.result
+        streams = len(result.streams) if result is not None else 0
+        units = len(result.units) if result is not None else 0
+        for pane, text in (
+            ("streams", f"Streams \u00b7 {streams}"),
+            ("units", f"Units \u00b7 {units}"),
+        ):
+            mark = "\u25be" if pane == self.active else "\u25b8"
+            title = Text.assemble((f"{mark} {PANES.index(pane) + 1} ", "bold"), (text, "bold"))
+            if pane == "streams":
+                title.append("   [..] entered in the file, plain = computed", style="dim")
+            self.query_one(f"#{pane}-title", Static).update(title)
+
+    def _focus_pane(self, pane: str) -> None:
+        self.active = pane
+        self._fold()
+        target = {"streams": StreamTable, "units": UnitTable, "detail": FieldList}[pane]
+        self.query_one(target).focus()
+
+    def on_descendant_focus(self, event: events.DescendantFocus) -> None:
+        for pane in PANES:
+            node = event.widget
+            while node is not None:
+                if node.id == f"{pane}-pane":
+                    if self.active != pane:
+                        self.active = pane
+                        self._fold()
+                    return
+                node = node.parent
+
+    def action_next_pane(self) -> None:
+        if self.query_one(DetailPane).editing:
+            return
+        self._focus_pane(PANES[(PANES.index(self.active) + 1) % len(PANES)])
+
+    def action_previous_pane(self) -> None:
+        if self.query_one(DetailPane).editing:
+            return
+        self._focus_pane(PANES[(PANES.index(self.active) - 1) % len(PANES)])
+
+    def action_pane(self, pane: str) -> None:
+        self._focus_pane(pane)
+
+    def action_back(self) -> None:
+        detail = self.query_one(DetailPane)
+        if detail.editing:
+            detail.editor.action_cancel()
+            return
+        if self.active == "detail":
+            self._focus_pane("units" if self.selection[0] == "unit" else "streams")
+
+    def action_sheet_settings(self) -> None:
+        self.selection = ("sheet", None)
+        self.refresh_detail()
+        self._focus_pane("detail")
+
+    # -------------------------------------------------------------- showing
+
+    @property
+    def document(self) -> Mapping:
+        return self.app.document
+
+    def refresh_all(self) -> None:
+        """Redraw everything from the app's session and latest result."""
+        app = self.app
+        if app.session is None:
+            self.query_one(Banner).show("no sheet", "", False, "", app.system)
+            return
+        self.query_one(Banner).show(app.session.name, str(self.document.get("title", "")), app.session.dirty,
+                                    str(self.document.get("model", "peng-robinson")), app.system)
+        self.query_one(StreamTable).show(app.result, self.document, app.system)
+        self.query_one(UnitTable).show(app.result, self.document, app.system)
+        self._keep_selection()
+        self.refresh_detail()
+        self._titles()
+
+    def _keep_selection(self) -> None:
+        kind, name = self.selection
+        result = self.app.result
+        streams = set(result.streams) if result is not None else set()
+        units = set(self.document.get("units", {}) or {})
+        streams |= set(self.document.get("streams", {}) or {})
+        if kind == "stream" and name not in streams or kind == "unit" and name not in units:
+            self.selection = ("sheet", None)
+        if self.selection == ("sheet", None) and self.active != "detail":
+            table = self.query_one(StreamTable) if self.active == "streams" else self.query_one(UnitTable)
+            current = table.current_name
+            if current is not None:
+                self.selection = ("stream" if self.active == "streams" else "unit", current)
+        if self.selection[0] == "stream":
+            self.query_one(StreamTable).select_name(self.selection[1])
+        elif self.selection[0] == "unit":
+            self.query_one(UnitTable).select_name(self.selection[1])
+
+    def refresh_detail(self) -> None:
+        app = self.app
+        if app.session is None:
+            return
+        self.query_one(DetailPane).show(self.selection, app.result, self.document, app.system, app.solve_running)
+
+    def select(self, kind: str, name: str | None) -> None:
+        if (kind, name) != self.selection:
+            self.selection = (kind, name)
+            self.refresh_detail()
+
+    def on_stream_table_picked(self, message: StreamTable.Picked) -> None:
+        self.select("stream", message.name)
+
+    def on_unit_table_picked(self, message: UnitTable.Picked) -> None:
+        self.select("unit", message.name)
+
+    def on_stream_table_opened(self, message: StreamTable.Opened) -> None:
+        self.select("stream", message.name)
+        self._focus_pane("detail")
+
+    def on_unit_table_opened(self, message: UnitTable.Opened) -> None:
+        self.select("unit", message.name)
+        self._focus_pane("detail")
+
+    # -------------------------------------------------------------- editing fields
+
+    def on_field_list_edit_wanted(self, message: FieldList.EditWanted) -> None:
+        field = message.field
+        detail = self.query_one(DetailPane)
+        if not field.editable or not field.key_path:
+            what = "computed by statepath" if field.kind == "computed" else "not something to type"
+            if field.key_path and field.key_path[-1] == "type":
+                self.app.say("a unit's type cannot be changed in place: add a new unit and remove this one")
+            elif field.key_path and field.key_path[0] == "streams":
+                self.app.say(f"{field.key_path[1]} is made by a unit: change that unit's specification")
+            else:
+                self.app.say(f"{field.label} is {what}")
+            return
+        if field.kind == "model":
+            self.app.action_choose_model()
+            return
+        from tui.widgets.fields import key_path_text
+
+        detail.editor.start(field.key_path, key_path_text(field.key_path), field.kind, field.entered or "")
+
+    def on_field_editor_submitted(self, message: FieldEditor.Submitted) -> None:
+        detail = self.query_one(DetailPane)
+        error = self.app.edit_field(message.key_path, message.kind, message.text)
+        if error:
+            detail.editor.show_error(error)
+            return
+        detail.editor.display = False
+        detail.field_list.focus()
+
+    def on_field_editor_cancelled(self, message: FieldEditor.Cancelled) -> None:
+        self.query_one(DetailPane).field_list.focus()
+
+    def on_field_list_clear_wanted(self, message: FieldList.ClearWanted) -> None:
+        field = message.field
+        if field.entered is None or not field.editable or not field.key_path:
+            self.app.say(f"{field.label}: nothing written in the file to clear")
+            return
+        self.app.clear_field(field.key_path)
+
+    # -------------------------------------------------------------- streams and units
+
+    def _target(self) -> tuple[str, str | None]:
+        """What add/remove/rename act on: the selection, or the active table's row."""
+        if self.active == "streams":
+            name = self.query_one(StreamTable).current_name
+            return ("stream", name) if name else self.selection
+        if self.active == "units":
+            name = self.query_one(UnitTable).current_name
+            return ("unit", name) if name else self.selection
+        return self.selection
+
+    def action_add_item(self) -> None:
+        kind = {"streams": "stream", "units": "unit"}.get(self.active)
+        if kind is None:
+            self.app.ask_add(self._target())
+        elif kind == "stream":
+            self.app.add_stream(self._target())
+        else:
+            self.app.add_unit(self._target())
+
+    def action_remove_item(self) -> None:
+        kind, name = self._target()
+        if kind == "sheet" or name is None:
+            self.app.say("select a stream or a unit to remove")
+            return
+        self.app.remove_item(kind, name)
+
+    def action_rename_item(self) -> None:
+        kind, name = self._target()
+        if kind == "sheet" or name is None:
+            self.app.say("select a stream or a unit to rename")
+            return
+        self.app.rename_item(kind, name)
+
+    def follow_rename(self, kind: str, old: str, new: str) -> None:
+        if self.selection == (kind, old):
+            self.selection = (kind, new)
+
+
+def unit_type_choices() -> list[tuple[str, str]]:
+    return [(name, f"{name}: {unit_type.description}") for name, unit_type in UNIT_TYPES.items()]
