@@ -1381,27 +1381,109 @@ def _walk(doc: TOMLDocument, key_path: tuple, create: bool, what: str):
     return container
 
 
+def _render(value: Any) -> str:
+    """``value`` as TOML text, inline tables spaced as the contract writes them."""
+    if isinstance(value, Mapping):
+        inner = ", ".join(f"{tomlkit.key(k).as_string()} = {_render(v)}" for k, v in value.items())
+        return "{ " + inner + " }" if inner else "{}"
+    if isinstance(value, (list, tuple)):
+        return "[" + ", ".join(_render(v) for v in value) + "]"
+    return _to_item(value).as_string()
+
+
+def _key_line(key: str, value: Any) -> str:
+    return f"{tomlkit.key(key).as_string()} = {_render(value)}"
+
+
+def _insert_at(text: str, at: int, lines: str) -> str:
+    """Insert whole ``lines`` (ending in a newline) at line start ``at``."""
+    before, after = text[:at], text[at:]
+    if before and not before.endswith("\n"):
+        before += _newline(text)
+    return before + lines + after
+
+
+def _new_table_at(text: str, index: KeyIndex, table_path: tuple) -> int:
+    """Where a new ``[table]`` for ``table_path`` goes: after the last table of
+    its own section, else before the first table of a later section, else at the end."""
+    section = table_path[0]
+    own = [h for h in index.headers if h.path[:1] == (section,)]
+    if own:
+        return _content_end(text, own[-1].start, own[-1].body_end)
+    order = {key: i for i, key in enumerate(TOP_LEVEL_KEYS)}
+    rank = order.get(section, len(order))
+    for header in index.headers:
+        if order.get(header.path[0] if header.path else "", len(order)) > rank:
+            return _content_end(text, 0, header.start)
+    return _content_end(text, 0, len(text))
+
+
+def _add_key_text(text: str, key_path: tuple, value: Any, what: str) -> str | None:
+    """Text with the missing ``key_path`` added as a line at the end of its
+    table (before comments that belong to the next table), or None if the
+    table is not written as a ``[header]`` (then tomlkit places it)."""
+    index = locate_keys(text)
+    newline = _newline(text)
+    parent, key = key_path[:-1], key_path[-1]
+    line = _key_line(str(key), value) + newline
+    if not parent:
+        first = index.headers[0].start if index.headers else len(text)
+        return _insert_at(text, _content_end(text, 0, first), line)
+    header = next((h for h in index.headers if h.path == parent and not h.is_array), None)
+    if header is not None:
+        return _insert_at(text, _content_end(text, header.start, header.body_end), line)
+    if parent in index.locations:
+        return None  # an inline table, dotted keys or a table implied by its sub-tables
+    at = _new_table_at(text, index, parent)
+    block = f"[{format_key_path(parent)}]{newline}{line}"
+    prefix = newline if text[:at].strip() else ""
+    suffix = newline if text[at:].strip() and not text[at:].startswith(("\n", "\r\n")) else ""
+    return _insert_at(text, at, prefix + block + suffix)
+
+
 def set_value(doc: TOMLDocument, key_path: tuple[str, ...], value: Any) -> TOMLDocument:
     """A copy of ``doc`` with ``key_path`` set to ``value`` (a string with its
-    unit such as ``"40 degC"``, a number, a list or a dict for an inline table).
-    The line keeps its comment and position; a value equal to the one written
-    leaves the text as it was; a missing key is added at the end of its table."""
+    unit such as ``"40 degC"``, a number, a list, or a dict for an inline
+    table). An existing line keeps its comment and position; a value equal to
+    the one written leaves the text as it was; a missing key is added as the
+    last line of its table, a missing table after the others of its section."""
     key_path = tuple(key_path)
     if not key_path:
         raise SheetEditError("cannot set a value without a key")
     what = f"set {format_key_path(key_path)}"
+    _to_item(value)  # refuses what cannot be written, before anything else
     result = _copy(doc)
-    container = _walk(result, key_path, create=True, what=what)
-    last = key_path[-1]
-    if last in container:
-        current = container[last]
-        current_plain = current.unwrap() if hasattr(current, "unwrap") else current
-        if type(current_plain) is type(value) and current_plain == value:
+    plain = result.unwrap()
+    node: Any = plain
+    for depth, key in enumerate(key_path[:-1]):
+        if isinstance(node, dict) and key in node:
+            node = node[key]
+            if not isinstance(node, dict):
+                raise SheetEditError(f"cannot {what}: {format_key_path(key_path[:depth + 1])} is not a table")
+        else:
+            node = None
+            break
+    if isinstance(node, dict) and key_path[-1] in node:
+        current = node[key_path[-1]]
+        if type(current) is type(value) and current == value:
             return result
-        if isinstance(current_plain, dict) and not isinstance(current, tomlkit.items.InlineTable):
+        if isinstance(current, dict) and not isinstance(value, Mapping):
             raise SheetEditError(f"cannot {what}: it is a table; set its keys one by one")
-    container[last] = _to_item(value)
-    return _reparse(result.as_string(), what)
+        container = _walk(result, key_path, create=False, what=what)
+        container[key_path[-1]] = _to_item(value)
+        return _reparse(result.as_string(), what)
+    text = _add_key_text(result.as_string(), key_path, value, what)
+    if text is None:
+        container = _walk(result, key_path, create=True, what=what)
+        container[key_path[-1]] = _to_item(value)
+        text = result.as_string()
+    new = _reparse(text, what)
+    check: Any = new.unwrap()
+    for key in key_path:
+        if not isinstance(check, dict) or key not in check:
+            raise SheetEditError(f"cannot {what}: the file's layout does not allow adding it safely; add it by hand")
+        check = check[key]
+    return new
 
 
 def remove_value(doc: TOMLDocument, key_path: tuple[str, ...]) -> TOMLDocument:
@@ -1542,9 +1624,7 @@ def _newline(text: str) -> str:
 
 
 def _table_text(section: str, name: str, table: Mapping[str, Any], newline: str) -> str:
-    lines = [f"[{section}.{name}]"]
-    for key, value in table.items():
-        lines.append(f"{tomlkit.key(key).as_string()} = {_to_item(value).as_string()}")
+    lines = [f"[{section}.{name}]"] + [_key_line(key, value) for key, value in table.items()]
     return newline.join(lines) + newline
 
 
@@ -1615,6 +1695,8 @@ def _remove_table(doc: TOMLDocument, section: str, name: str, what: str) -> TOML
         blank_before = not before or before.endswith(("\n\n", "\n\r\n"))
         while blank_before and after.startswith(("\n", "\r\n")):
             after = after[2:] if after.startswith("\r\n") else after[1:]
+        if before and not after.strip():
+            before = before.rstrip("\r\n") + _newline(text)  # no blank lines left at the end
         new_text = before + after
     result = _reparse(new_text, what)
     remaining = result.get(section)
