@@ -177,14 +177,17 @@ def nice_ticks(low: float, high: float, count: int = 5) -> list[float]:
         return [low]
     raw = (high - low) / max(count - 1, 1)
     power = 10.0 ** math.floor(math.log10(raw))
-    step = next(m * power for m in (1, 2, 2.5, 5, 10) if m * power >= raw)
-    first = math.ceil(low / step - 1e-9) * step
-    ticks = []
-    value = first
-    while value <= high + step * 1e-9:
-        ticks.append(0.0 if abs(value) < step * 1e-9 else value)
-        value += step
-    return ticks
+
+    def ticks_for(step: float) -> list[float]:
+        first = math.ceil(low / step - 1e-9) * step
+        values, value = [], first
+        while value <= high + step * 1e-9:
+            values.append(0.0 if abs(value) < step * 1e-9 else value)
+            value += step
+        return values
+
+    candidates = [ticks_for(m * power) for m in (1, 2, 2.5, 5, 10)]
+    return min(reversed(candidates), key=lambda ticks: abs(len(ticks) - count))
 
 
 def log_ticks(low: float, high: float) -> list[float]:
@@ -404,7 +407,10 @@ def saturation_dome(model, index: int, component: str, *, critical_temperature: 
     raise when the saturation calculation fails."""
     import numpy as np
 
-    from thermo.flash import saturation_pressure
+    try:
+        from thermo.flash import saturation_pressure
+    except ImportError:
+        from thermo.saturation import saturation_pressure
     from thermo.properties import single_phase_state
 
     size = len(model.mixture.names) if hasattr(model, "mixture") else index + 1

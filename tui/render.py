@@ -153,6 +153,11 @@ def _header(label: str, kind: str | None, system: str) -> str:
     return f"{label}\n{unit}"
 
 
+# One space of padding on the right and a blank column rule: two spaces between
+# columns, no edges, so that a sheet's tables fit 80 columns.
+_TABLE_STYLE = dict(box=box.SIMPLE_HEAD, title_justify="left", show_edge=False, pad_edge=False, padding=(0, 1, 0, 0))
+
+
 def _align_headers(table: Table) -> Table:
     # Headers of two or three lines (label, unit) line up at their foot.
     for column in table.columns:
@@ -162,7 +167,7 @@ def _align_headers(table: Table) -> Table:
 
 def stream_table(result: SheetResult, system: str) -> Table:
     """Streams: T, P, molar flow, vapor fraction and phase, molar H and S."""
-    table = Table(title="Streams", box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False)
+    table = Table(title="Streams", **_TABLE_STYLE)
     table.add_column("stream", overflow="fold")
     for label, kind in (
         ("T", "temperature"),
@@ -189,7 +194,7 @@ def stream_table(result: SheetResult, system: str) -> Table:
 
 def unit_table(result: SheetResult, system: str, *, ascii_only: bool = False) -> Table:
     """Units: type, duty or power, entropy generation, lost work and flags."""
-    table = Table(title="Units", box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False)
+    table = Table(title="Units", **_TABLE_STYLE)
     table.add_column("unit", overflow="fold")
     table.add_column("type")
     table.add_column(_header("duty", "power", system), justify="right")
@@ -222,7 +227,7 @@ def _summary_style(unit: UnitResult) -> str:
 
 def flag_table(flags: list[Flag], *, ascii_only: bool = False) -> Table:
     """Violations and cautions, one a row: level, where, code, message."""
-    table = Table(title="Violations and cautions", box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False)
+    table = Table(title="Violations and cautions", **_TABLE_STYLE)
     table.add_column("level", no_wrap=True)
     table.add_column("where", overflow="fold")
     table.add_column("code", overflow="fold")
@@ -265,17 +270,18 @@ def rich_report(result: SheetResult, system: str, *, title: str | None = None,
     parts.append(status_line(result, ascii_only=ascii_only))
     parts.append(Text(f"units: {_system_caption(system)}", style="dim"))
     if result.streams:
-        parts.append(stream_table(result, system))
+        parts += [Text(""), stream_table(result, system)]
     if result.units:
-        parts.append(unit_table(result, system, ascii_only=ascii_only))
+        parts += [Text(""), unit_table(result, system, ascii_only=ascii_only)]
     flags = collect_flags(result)
+    parts.append(Text(""))
     if flags:
         parts.append(flag_table(flags, ascii_only=ascii_only))
     else:
         parts.append(Text("No violations or cautions."))
     notes = notes_lines(result)
     if notes:
-        parts.append(Text("Notes", style="bold"))
+        parts += [Text(""), Text("Notes", style="bold")]
         parts.extend(Text(f"  - {line}") for line in notes)
     return Group(*parts)
 

@@ -110,6 +110,8 @@ class MainScreen(Screen[None]):
         self.query_one(target).focus()
 
     def on_descendant_focus(self, event: events.DescendantFocus) -> None:
+        if isinstance(event.widget, (StreamTable, UnitTable)) and event.widget.current_name:
+            self.select("stream" if isinstance(event.widget, StreamTable) else "unit", event.widget.current_name)
         for pane in PANES:
             node = event.widget
             while node is not None:
@@ -196,10 +198,12 @@ class MainScreen(Screen[None]):
             self.refresh_detail()
 
     def on_stream_table_picked(self, message: StreamTable.Picked) -> None:
-        self.select("stream", message.name)
+        if self.query_one(StreamTable).has_focus:  # not when a refill moves a cursor
+            self.select("stream", message.name)
 
     def on_unit_table_picked(self, message: UnitTable.Picked) -> None:
-        self.select("unit", message.name)
+        if self.query_one(UnitTable).has_focus:
+            self.select("unit", message.name)
 
     def on_stream_table_opened(self, message: StreamTable.Opened) -> None:
         self.select("stream", message.name)

@@ -42,7 +42,7 @@ class UnitTable(DataTable):
         self.add_column("type", key="type")
         self.add_column(Text(f"duty/power {power}", justify="right"), key="energy")
         self.add_column(Text(f"S gen {display_units('entropy_rate', system)}", justify="right"), key="sgen")
-        self.add_column(Text(f"lost work {power}", justify="right"), key="lost")
+        self.add_column(Text(f"lost {power}", justify="right"), key="lost")
         self.add_column("flags", key="flags")
         self._names = []
         written = document.get("units") if isinstance(document.get("units"), Mapping) else {}
