@@ -58,7 +58,7 @@ from .saturation import (
 )
 from .stability import StabilityError, stability_test
 from .state import LIQUID, VAPOR, StreamState
-from .two_phase import Split, SplitError, split, temperature_derivative
+from .two_phase import SWITCH_WARM, Split, SplitError, split, temperature_derivative
 
 __all__ = [
     "FlashError",
@@ -137,7 +137,7 @@ def _equilibrium(kernel: CubicKernel, temperature: float, pressure: float, z: np
     ln_phi_feed, _, _ = state.ln_phi(z)
     if warm is not None:
         try:
-            result = split(state, z, np.exp(warm.ln_k), warm.beta)
+            result = split(state, z, np.exp(warm.ln_k), warm.beta, SWITCH_WARM)
         except SplitError:
             result = None
         if result is not None and _lowers_gibbs(state, z, ln_phi_feed, result):
@@ -458,16 +458,18 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
                                           max_steps=FAST_PASS_STEPS)
     except (FlashError, ArithmeticError):
         single_t = None
+    known = {}
     if single_t is not None:
         eq = _equilibrium(kernel, single_t, pressure, za, where)
         if eq.split is None:
             return _verified_target(_stream(model, single_t, pressure, z_full, active, eq), target, kind, tolerance, where)
         guess = single_t
+        known[single_t] = eq
     # Second pass: the equilibrium state at each temperature, warm-started from the last split.
-    last_split = [None]
+    last_split = [next(iter(known.values())).split if known else None]
 
     def equilibrium(t):
-        eq = _equilibrium(kernel, t, pressure, za, where, last_split[0])
+        eq = known.pop(t, None) or _equilibrium(kernel, t, pressure, za, where, last_split[0])
         if eq.split is not None:
             last_split[0] = eq.split
         value, slope = _equilibrium_value(eq, kind)

@@ -160,7 +160,7 @@ class CubicAtTP:
 
     __slots__ = (
         "kernel", "temperature", "pressure", "sqrt_t", "q", "a", "big_a", "big_b",
-        "_a_t", "_a_tt",
+        "_a_t", "_a_tt", "_ideal",
     )
 
     def __init__(self, kernel: CubicKernel, temperature: float, pressure: float):
@@ -176,6 +176,7 @@ class CubicAtTP:
         self.big_b = kernel.b * (pressure / rt)
         self._a_t = None
         self._a_tt = None
+        self._ideal = None
 
     # --- roots ------------------------------------------------------------
     def _roots(self, big_a: float, big_b: float) -> tuple[float, ...]:
@@ -333,9 +334,6 @@ class CubicAtTP:
         k = self.kernel
         t, p = self.temperature, self.pressure
         rt = R * t
-        big_a = float(x @ self.big_a @ x)
-        big_b = float(self.big_b @ x)
-        z, log_ratio, liquid = self._choose(big_a, big_b, root)
         a_t, a_tt = self._attraction_t()
         bi = k.b
         ai = self.a @ x
@@ -346,6 +344,7 @@ class CubicAtTP:
         d_i = 2.0 * ai
         d_it = 2.0 * ai_t
         b = float(bi @ x)
+        z, log_ratio, liquid = self._choose(d * p / (rt * rt), b * p / rt, root)
         v = z * rt / p
         d1, d2 = k.delta1, k.delta2
         v1, v2 = v + d1 * b, v + d2 * b
@@ -379,20 +378,22 @@ class CubicAtTP:
         f_bt = f_b * shift
         f_dt = f / (t * t)
         f_i = -g + f_big_b * bi + f_big_d * d_i
-        b_d = np.outer(bi, d_i)
-        b_plus = bi[:, None] + bi[None, :]
-        f_ij = f_nb * b_plus + f_bd * (b_d + b_d.T) + f_bb_total * np.outer(bi, bi) + f_big_d * 2.0 * self.a
+        # f_ij = f_nb (b_i + b_j) + f_bd (b_i D_j + b_j D_i) + f_bb b_i b_j + f_D D_ij, as b c^T + c b^T + 2 f_D a
+        c = f_nb + f_bd * d_i + (0.5 * f_bb_total) * bi
+        bc = bi[:, None] * c
         f_iv = -g_v + f_bv_total * bi + f_dv * d_i
         f_it = f_bt * bi + f_dt * d_i + f_big_d * d_it
         p_v = -rt * f_vv_total - rt / (v * v)
         p_t = p / t - rt * f_vt
-        p_i = -rt * f_iv + rt / v
-        partial_volume = -p_i / p_v
+        p_i = rt / v - rt * f_iv
+        partial_volume = p_i / -p_v
+        scaled = p_i / (rt * p_v)
+        dlnphi_dn = bc + bc.T + (2.0 * f_big_d) * self.a + (p_i[:, None] * scaled + 1.0)
         ln_z = math.log(z)
         minus_t_ft = -t * f_t
         return PhaseDerivatives(
             ln_phi=f_i - ln_z,
-            dlnphi_dn=f_ij + 1.0 + np.outer(p_i, p_i) / (rt * p_v),
+            dlnphi_dn=dlnphi_dn,
             dlnphi_dT=f_it + 1.0 / t - partial_volume * p_t / rt,
             dlnphi_dP=partial_volume / rt - 1.0 / p,
             compressibility=z,
@@ -405,26 +406,34 @@ class CubicAtTP:
         )
 
     # --- ideal-gas parts over the active components -----------------------------
+    def _ideal_parts(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        if self._ideal is None:
+            from .components import P_REF, T_REF
+
+            t = self.temperature
+            coefficients = self.kernel.cp_coefficients
+            powers_h = np.array([t - T_REF, (t * t - T_REF**2) / 2, (t**3 - T_REF**3) / 3,
+                                 (t**4 - T_REF**4) / 4, (t**5 - T_REF**5) / 5])
+            powers_s = np.array([math.log(t / T_REF), t - T_REF, (t * t - T_REF**2) / 2,
+                                 (t**3 - T_REF**3) / 3, (t**4 - T_REF**4) / 4])
+            powers_cp = np.array([1.0, t, t * t, t**3, t**4])
+            stacked = coefficients @ np.column_stack((powers_h, powers_s, powers_cp))
+            self._ideal = (
+                stacked[:, 0],
+                stacked[:, 1] - R * math.log(self.pressure / P_REF),
+                stacked[:, 2],
+            )
+        return self._ideal
+
     def ideal_enthalpies(self) -> np.ndarray:
         """Pure ideal-gas enthalpies of the active components at T, J/mol."""
-        from .components import T_REF
-
-        t = self.temperature
-        powers = np.array([t, t * t / 2, t**3 / 3, t**4 / 4, t**5 / 5])
-        ref = np.array([T_REF, T_REF**2 / 2, T_REF**3 / 3, T_REF**4 / 4, T_REF**5 / 5])
-        return self.kernel.cp_coefficients @ (powers - ref)
+        return self._ideal_parts()[0]
 
     def ideal_entropies(self) -> np.ndarray:
         """Pure ideal-gas entropies of the active components at T and P,
         J/(mol K) (no entropy of mixing)."""
-        from .components import P_REF, T_REF
-
-        t = self.temperature
-        powers = np.array([math.log(t), t, t * t / 2, t**3 / 3, t**4 / 4])
-        ref = np.array([math.log(T_REF), T_REF, T_REF**2 / 2, T_REF**3 / 3, T_REF**4 / 4])
-        return self.kernel.cp_coefficients @ (powers - ref) - R * math.log(self.pressure / P_REF)
+        return self._ideal_parts()[1]
 
     def ideal_heat_capacities(self) -> np.ndarray:
         """Pure ideal-gas Cp of the active components at T, J/(mol K)."""
-        t = self.temperature
-        return self.kernel.cp_coefficients @ np.array([1.0, t, t * t, t**3, t**4])
+        return self._ideal_parts()[2]

@@ -23,8 +23,10 @@ from .components import R
 from .fugacity import CubicAtTP, PhaseDerivatives
 from .rachford_rice import RachfordRiceError, rachford_rice
 
-SWITCH_TO_NEWTON = 1e-6  # max |ln f_y - ln f_x| at which substitution hands over
+SWITCH_TO_NEWTON = 1e-5  # max |ln f_y - ln f_x| at which substitution hands over
+SWITCH_WARM = 1e-2  # the same for a start from a nearby converged split
 CONVERGED = 1e-11  # max |ln f_y - ln f_x| of a converged split
+FULL_STEP = 1e-4  # below this mismatch a Newton step is taken whole, without a line search
 SUBSTITUTION_STEPS = 200
 NEWTON_STEPS = 30
 ACCELERATE_EVERY = 5
@@ -65,10 +67,13 @@ def _reduced_gibbs(beta, x, y, ln_phi_x, ln_phi_y):
     return (1.0 - beta) * float(x @ (np.log(x) + ln_phi_x)) + beta * float(y @ (np.log(y) + ln_phi_y))
 
 
-def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: float | None = None) -> Split | None:
+def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: float | None = None,
+          switch: float = SWITCH_TO_NEWTON) -> Split | None:
     """The two-phase split of feed z at the state's T and P, started from
     K-values ``k_start``; None when the iteration collapses to one phase
-    (trivial K-values, or a vapor fraction outside (0, 1) at convergence)."""
+    (trivial K-values, or a vapor fraction outside (0, 1) at convergence).
+    Substitution hands over to Newton's method once max |ln f_y - ln f_x|
+    falls below ``switch`` (larger for a start already near the answer)."""
     ln_k = np.log(k_start)
     beta = beta_guess
     previous_delta = None
@@ -98,7 +103,7 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
         delta = ln_k_new - ln_k
         error = float(np.max(np.abs(delta)))
         previous_gibbs = gibbs
-        if error < SWITCH_TO_NEWTON and 0.0 < beta < 1.0:
+        if error < switch and 0.0 < beta < 1.0:
             break
         if previous_delta is not None and iterations % ACCELERATE_EVERY == 0:
             overlap = float(previous_delta @ delta)
@@ -148,6 +153,9 @@ def _newton(state: CubicAtTP, z: np.ndarray, v: np.ndarray, done: int) -> Split 
         scale = 1.0
         for bound_scale in (_limit(v, step), _limit(liquid_moles, -step)):
             scale = min(scale, bound_scale)
+        if error < FULL_STEP and scale == 1.0:
+            v = v + step
+            continue
         gibbs = _reduced_gibbs(beta, x, y, props_x.ln_phi, props_y.ln_phi)
         for _ in range(30):
             trial_v = v + scale * step
@@ -158,7 +166,7 @@ def _newton(state: CubicAtTP, z: np.ndarray, v: np.ndarray, done: int) -> Split 
                 phi_y, _, _ = state.ln_phi(trial_y)
                 phi_x, _, _ = state.ln_phi(trial_x)
                 trial_gibbs = _reduced_gibbs(trial_beta, trial_x, trial_y, phi_x, phi_y)
-                if trial_gibbs <= gibbs + 1e-13 * max(1.0, abs(gibbs)) or error < 1e-7:
+                if trial_gibbs <= gibbs + 1e-13 * max(1.0, abs(gibbs)):
                     break
             scale *= 0.5
         v = trial_v
