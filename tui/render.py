@@ -18,6 +18,7 @@ from dataclasses import dataclass
 
 from rich import box
 from rich.console import Console, Group, RenderableType
+from rich.padding import Padding
 from rich.table import Table
 from rich.text import Text
 
@@ -87,7 +88,7 @@ def level_label(level: str, *, ascii_only: bool = False) -> str:
 
 def plural(count: int, word: str) -> str:
     """``plural(1, "caution") == "1 caution"``, ``plural(2, ...) == "2 cautions"``."""
-    return f"{count} {word}{'' if count == 1 else 's'}"
+    return f"{count} {word}{'' if count == 1 else ('es' if word.endswith('s') else 's')}"
 
 
 # ------------------------------------------------------------------ numbers
@@ -225,22 +226,19 @@ def _summary_style(unit: UnitResult) -> str:
     return ""
 
 
-def flag_table(flags: list[Flag], *, ascii_only: bool = False) -> Table:
-    """Violations and cautions, one a row: level, where, code, message."""
-    table = Table(title="Violations and cautions", **_TABLE_STYLE)
-    table.add_column("level", no_wrap=True)
-    table.add_column("where", overflow="fold")
-    table.add_column("code", overflow="fold")
-    table.add_column("message", ratio=1)
+def flag_list(flags: list[Flag], *, ascii_only: bool = False) -> RenderableType:
+    """Violations and cautions, each as a line "symbol level  code  where"
+    with its message indented below it, so that the message has the whole
+    width of the terminal."""
+    parts: list[RenderableType] = [Text("Violations and cautions", style="italic")]
     for flag in flags:
         style = _LEVELS.get(flag.level, ("", "", ""))[2]
-        table.add_row(
-            Text(level_label(flag.level, ascii_only=ascii_only), style=style),
-            flag.where,
-            flag.code,
-            Text(flag.message),
-        )
-    return table
+        heading = Text()
+        heading.append(level_label(flag.level, ascii_only=ascii_only), style=style)
+        heading.append(f"  {flag.code}  {flag.where}")
+        parts.append(heading)
+        parts.append(Padding(Text(flag.message), (0, 0, 0, 4)))
+    return Group(*parts)
 
 
 def status_line(result: SheetResult, *, ascii_only: bool = False) -> Text:
@@ -251,7 +249,7 @@ def status_line(result: SheetResult, *, ascii_only: bool = False) -> Text:
     text.append(f"{ascii_symbol if ascii_only else symbol} {result.status}", style=style)
     text.append(f": {plural(violations, 'violation')}, {plural(cautions, 'caution')}; model {result.model}")
     if result.recycle_iterations:
-        text.append(f"; recycle converged in {plural(result.recycle_iterations, 'iteration')}")
+        text.append(f"; recycle {plural(result.recycle_iterations, 'pass')}")
     return text
 
 
@@ -276,7 +274,7 @@ def rich_report(result: SheetResult, system: str, *, title: str | None = None,
     flags = collect_flags(result)
     parts.append(Text(""))
     if flags:
-        parts.append(flag_table(flags, ascii_only=ascii_only))
+        parts.append(flag_list(flags, ascii_only=ascii_only))
     else:
         parts.append(Text("No violations or cautions."))
     notes = notes_lines(result)
