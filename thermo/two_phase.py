@@ -4,12 +4,13 @@ Equilib. 9 (1982) 21-40).
 Successive substitution on ln K = ln phi_x - ln phi_y, each step solving the
 Rachford-Rice equation for the vapor fraction, accelerated every few steps by
 extrapolating along the dominant eigenvalue (accepted only where it lowers
-the Gibbs energy); then Newton's method on the moles v_i of the y phase with
-the analytic Hessian of the Gibbs energy,
+the Gibbs energy); then Newton's method on ln K, with the analytic Jacobian
+from Phi_ij = n d ln(phi_i)/d n_j of both phases and the vapor fraction's
+own dependence on K, until ln f_i^y - ln f_i^x vanishes. The temperature
+derivative of the split uses the Hessian of the Gibbs energy in the moles
+v_i of the y phase,
 
-    H_ij = (delta_ij / y_i - 1 + Phi^y_ij) / beta + (delta_ij / x_i - 1 + Phi^x_ij) / (1 - beta),
-
-Phi_ij = n d ln(phi_i)/d n_j, until ln f_i^y - ln f_i^x vanishes.
+    H_ij = (delta_ij / y_i - 1 + Phi^y_ij) / beta + (delta_ij / x_i - 1 + Phi^x_ij) / (1 - beta).
 """
 
 from __future__ import annotations
@@ -26,7 +27,6 @@ from .rachford_rice import RachfordRiceError, rachford_rice
 SWITCH_TO_NEWTON = 1e-5  # max |ln f_y - ln f_x| at which substitution hands over
 SWITCH_WARM = 1e-2  # the same for a start from a nearby converged split
 CONVERGED = 1e-11  # max |ln f_y - ln f_x| of a converged split
-FULL_STEP = 1e-4  # below this mismatch a Newton step is taken whole, without a line search
 SUBSTITUTION_STEPS = 200
 NEWTON_STEPS = 30
 ACCELERATE_EVERY = 5
@@ -120,66 +120,61 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
             return None
     if not (0.0 < beta < 1.0):
         return None
-    return _newton(state, z, beta * y, iterations)
+    return _newton(state, z, ln_k, beta, iterations)
 
 
-def _newton(state: CubicAtTP, z: np.ndarray, v: np.ndarray, done: int) -> Split | None:
-    """Newton's method on the moles v of the y phase (per mole of feed)."""
+def _newton(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float, done: int) -> Split | None:
+    """Newton's method on ln K with the vapor fraction from Rachford-Rice at
+    every step; the phase compositions z / (1 + beta (K - 1)) never suffer
+    the cancellation that moles z - v would for components almost wholly in
+    one phase. A step that does not lower the largest mismatch is replaced by
+    a substitution step."""
     size = len(z)
-    ones = np.ones((size, size))
+    eye = np.eye(size)
+    previous_error = math.inf
     for step_count in range(1, NEWTON_STEPS + 1):
-        beta = float(v.sum())
-        liquid_moles = z - v
-        y = v / beta
-        x = liquid_moles / (1.0 - beta)
-        props_y = state.derivatives(y)
-        props_x = state.derivatives(x)
-        ln_y, ln_x = np.log(y), np.log(x)
-        gradient = ln_y + props_y.ln_phi - ln_x - props_x.ln_phi
+        k = np.exp(ln_k)
+        try:
+            beta = rachford_rice(z, k, beta)
+        except RachfordRiceError:
+            return None
+        if not 0.0 < beta < 1.0:
+            return None
+        k_minus_1 = k - 1.0
+        denominator = 1.0 + beta * k_minus_1
+        x = z / denominator
+        y = k * x
+        props_y = state.derivatives(y / y.sum())
+        props_x = state.derivatives(x / x.sum())
+        gradient = ln_k + props_y.ln_phi - props_x.ln_phi
         error = float(np.max(np.abs(gradient)))
         if error < CONVERGED:
-            ln_k = ln_y - ln_x
             if float(np.max(np.abs(ln_k))) < TRIVIAL_LN_K:
                 return None
-            return Split(beta, x, y, ln_k, props_x, props_y, error, done + step_count)
-        hessian = (np.diag(1.0 / y) - ones + props_y.dlnphi_dn) / beta + (
-            np.diag(1.0 / x) - ones + props_x.dlnphi_dn
-        ) / (1.0 - beta)
-        try:
-            step = np.linalg.solve(hessian, -gradient)
-        except np.linalg.LinAlgError:
-            raise SplitError("singular Gibbs-energy Hessian in the Newton stage") from None
-        # Keep both phases' moles positive: shorten the step toward the bounds.
-        scale = 1.0
-        for bound_scale in (_limit(v, step), _limit(liquid_moles, -step)):
-            scale = min(scale, bound_scale)
-        if error < FULL_STEP and scale == 1.0:
-            v = v + step
+            x, y = x / x.sum(), y / y.sum()
+            return Split(beta, x, y, np.log(y) - np.log(x), props_x, props_y, error, done + step_count)
+        if error > previous_error:
+            # Newton lost ground: one substitution step from here instead.
+            ln_k = props_x.ln_phi - props_y.ln_phi
+            previous_error = math.inf
             continue
-        gibbs = _reduced_gibbs(beta, x, y, props_x.ln_phi, props_y.ln_phi)
-        for _ in range(30):
-            trial_v = v + scale * step
-            trial_beta = float(trial_v.sum())
-            if 0.0 < trial_beta < 1.0:
-                trial_y = trial_v / trial_beta
-                trial_x = (z - trial_v) / (1.0 - trial_beta)
-                phi_y, _, _ = state.ln_phi(trial_y)
-                phi_x, _, _ = state.ln_phi(trial_x)
-                trial_gibbs = _reduced_gibbs(trial_beta, trial_x, trial_y, phi_x, phi_y)
-                if trial_gibbs <= gibbs + 1e-13 * max(1.0, abs(gibbs)):
-                    break
-            scale *= 0.5
-        v = trial_v
+        previous_error = error
+        # d beta / d ln K_j from the Rachford-Rice equation
+        weight = z * k / denominator**2
+        dbeta = -weight / -float(z @ (k_minus_1**2 / denominator**2))
+        # dx_i/dlnK_j = -x_i / D_i (beta K_j delta_ij + (K_i - 1) dbeta_j)
+        dx = -(x / denominator)[:, None] * (beta * k * eye + k_minus_1[:, None] * dbeta[None, :])
+        dy = k[:, None] * dx + np.diag(y)
+        jacobian = eye + props_y.dlnphi_dn @ dy - props_x.dlnphi_dn @ dx
+        try:
+            step = np.linalg.solve(jacobian, -gradient)
+        except np.linalg.LinAlgError:
+            raise SplitError("singular Jacobian in the Newton stage") from None
+        largest = float(np.max(np.abs(step)))
+        if largest > 2.0:
+            step *= 2.0 / largest
+        ln_k = ln_k + step
     raise SplitError(f"Newton stage did not reach equal fugacities in {NEWTON_STEPS} steps")
-
-
-def _limit(moles: np.ndarray, step: np.ndarray) -> float:
-    """Largest fraction of ``step`` (at most 1) keeping ``moles`` above a tenth
-    of their current values."""
-    shrinking = step < 0.0
-    if not np.any(shrinking):
-        return 1.0
-    return float(min(1.0, np.min(-0.9 * moles[shrinking] / step[shrinking])))
 
 
 def temperature_derivative(state: CubicAtTP, z: np.ndarray, result: Split) -> tuple[float, np.ndarray]:
