@@ -311,6 +311,7 @@ _STEPS = st.one_of(
     st.tuples(st.just("cooler"), st.floats(0.0, 3e5)),
     st.tuples(st.just("compressor"), st.floats(0.5, 3.0)),
     st.tuples(st.just("expander"), st.floats(0.2, 1.2)),
+    st.tuples(st.just("pump"), st.floats(-1e5, 20e5)),
 )
 
 
@@ -322,7 +323,7 @@ def test_random_chains_of_units_never_crash(steps, start_t, start_p):
     stream = "in"
     for k, (kind, value) in enumerate(steps):
         key = {"valve": "pressure_drop", "heater": "outlet_temperature", "cooler": "duty",
-               "compressor": "pressure_ratio", "expander": "pressure_ratio"}[kind]
+               "compressor": "pressure_ratio", "expander": "pressure_ratio", "pump": "pressure_rise"}[kind]
         units.append(unit(f"u{k}", kind, {"inlet": stream, "outlet": f"s{k}"}, **{key: value}))
         stream = f"s{k}"
     result = solve_sheet(sheet([feed("in", temperature=start_t, pressure=start_p)], units))
@@ -334,3 +335,73 @@ def test_random_chains_of_units_never_crash(steps, start_t, start_p):
     for u in result.units.values():
         assert math.isfinite(u.entropy_generation_W_K)
         assert u.details["energy_balance_relative_residual"] < BALANCE_TOLERANCE
+
+
+# ------------------------------------------------------------------ more structure and data
+
+
+def test_two_recycle_loops_through_one_mixer_converge():
+    units = [
+        unit("mix", "mixer", {"inlets": ("fresh", "back-1", "back-2"), "outlet": "mixed"}),
+        unit("heat", "heater", {"inlet": "mixed", "outlet": "hot"}, outlet_temperature=330.0),
+        unit("tee", "splitter", {"inlet": "hot", "outlets": ("product", "loops")}, fractions=(0.5, 0.5)),
+        unit("tee-2", "splitter", {"inlet": "loops", "outlets": ("pre-1", "pre-2")}, fractions=(0.3, 0.7)),
+        unit("cool", "cooler", {"inlet": "pre-2", "outlet": "back-2"}, outlet_temperature=310.0),
+        unit("drop", "valve", {"inlet": "pre-1", "outlet": "back-1"}, pressure_drop=0.0),
+    ]
+    result = solve_sheet(sheet([feed("fresh", temperature=300.0, pressure=30e5, flow=100.0)], units))
+    assert result.status == "ok", result.errors
+    assert sorted(result.tear_streams) == ["back-1", "back-2"]
+    assert result.streams["product"].molar_flow == pytest.approx(100.0, rel=1e-8)
+    assert result.streams["back-2"].molar_flow == pytest.approx(70.0, rel=1e-8)
+    assert_all_balanced(result)
+
+
+def test_a_solve_time_error_names_the_line_of_the_key(tmp_path):
+    text = EXAMPLE.replace('outlet_pressure = "22 barg"', 'pressure_drop = "80 bar"')
+    path = tmp_path / "deep-drop.toml"
+    path.write_text(text, encoding="utf-8")
+    loaded, result = load_and_solve(path)
+    assert loaded is not None and result.status == "error"
+    error = result.errors[0]
+    assert error.where == "units.choke.pressure_drop"
+    assert error.line == text.splitlines().index('pressure_drop = "80 bar"') + 1
+    assert error.file == str(path)
+
+
+def test_a_saturated_liquid_feed_and_its_flash_across_a_valve():
+    saturated = FeedStream("lpg", None, 10e5, 0.0, 10.0, None, {"propane": 1.0})
+    s = sheet([saturated], [unit("choke", "valve", {"inlet": "lpg", "outlet": "out"}, outlet_pressure=3e5)])
+    result = solve_sheet(s)
+    assert result.status == "ok", result.errors
+    assert result.streams["lpg"].state.vapor_fraction == pytest.approx(0.0, abs=1e-9)
+    out = result.streams["out"].state
+    assert out.phase == "two-phase" and 0.0 < out.vapor_fraction < 1.0
+    assert "valve-outlet-flashes" in [c.code for c in result.units["choke"].cautions]
+
+
+def test_the_interaction_table_is_read_by_model_and_pair():
+    from thermo.flowsheet import parse_interaction_table
+
+    table = parse_interaction_table(
+        '[peng-robinson]\n"methane/CO2" = { kij = 0.09, source = "test" }\n"methane/unobtainium" = { kij = 0.1 }\n'
+        '[soave-redlich-kwong]\n"N2/methane" = 0.03\n')
+    assert table == {"peng-robinson": {("methane", "carbon-dioxide"): 0.09},
+                     "soave-redlich-kwong": {("nitrogen", "methane"): 0.03}}
+
+
+@pytest.mark.parametrize("model", ["soave-redlich-kwong", "virial", "ideal-gas"])
+def test_every_model_solves_the_same_chain(model):
+    units = [
+        unit("choke", "valve", {"inlet": "gas", "outlet": "lp"}, outlet_pressure=10e5),
+        unit("heat", "heater", {"inlet": "lp", "outlet": "warm"}, outlet_temperature=300.0),
+        unit("boost", "compressor", {"inlet": "warm", "outlet": "hp"}, outlet_pressure=30e5),
+    ]
+    result = solve_sheet(sheet([feed("gas", pressure=30e5)], units, model=model))
+    assert result.status == "ok", result.errors
+    drop = 300.0 - result.streams["lp"].state.temperature
+    if model == "ideal-gas":
+        assert drop == pytest.approx(0.0, abs=1e-6)  # an ideal gas does not cool on throttling
+    else:
+        assert drop > 5.0
+    assert_all_balanced(result)

@@ -20,6 +20,13 @@ Where the flags go:
 
 Every caution's message states the number, the limit it is held against, and
 ends deferring to local codes and licensed engineering practice.
+
+Adding a rule: a ``Rule`` in ``RULES`` (code, kind, severity for a caution,
+what it checks, its source), the check in ``stream_cautions``,
+``unit_cautions`` or ``unit_violations`` building its message with
+``_caution`` (which appends ``DEFER``) or ``Violation``, and a test in
+``tests/test_cautions.py`` calling ``check_caution``/``check_violation`` with
+the code (a test there fails for any rule without one).
 """
 
 from __future__ import annotations

@@ -90,13 +90,11 @@ class _Refused(Exception):
 # ------------------------------------------------------------------ mixture
 
 
-@lru_cache(maxsize=1)
-def _interaction_library() -> dict[str, dict[tuple[str, str], float]]:
-    """The library of k_ij by model (thermo/data/interaction.toml), if it exists."""
-    try:
-        text = resources.files("thermo").joinpath("data/interaction.toml").read_text("utf-8")
-    except (FileNotFoundError, OSError):
-        return {}
+def parse_interaction_table(text: str) -> dict[str, dict[tuple[str, str], float]]:
+    """k_ij by model name from the text of an interaction table:
+    ``[peng-robinson] "methane/carbon-dioxide" = { kij = 0.09, source = "..." }``
+    (a bare number is accepted for the value). Pairs naming an unknown
+    component, and entries without a number, are left out."""
     table: dict[str, dict[tuple[str, str], float]] = {}
     for model, pairs in tomllib.loads(text).items():
         if not isinstance(pairs, dict):
@@ -104,14 +102,24 @@ def _interaction_library() -> dict[str, dict[tuple[str, str], float]]:
         for key, record in pairs.items():
             names = key.split("/")
             value = record.get("kij") if isinstance(record, dict) else record
-            if len(names) != 2 or not isinstance(value, (int, float)):
+            if len(names) != 2 or isinstance(value, bool) or not isinstance(value, (int, float)):
                 continue
             try:
-                a, b = resolve_name(names[0]), resolve_name(names[1])
+                a, b = resolve_name(names[0].strip()), resolve_name(names[1].strip())
             except UnknownComponentError:
                 continue
             table.setdefault(model, {})[(a, b)] = float(value)
     return table
+
+
+@lru_cache(maxsize=1)
+def _interaction_library() -> dict[str, dict[tuple[str, str], float]]:
+    """The library of k_ij by model (thermo/data/interaction.toml), if it exists."""
+    try:
+        text = resources.files("thermo").joinpath("data/interaction.toml").read_text("utf-8")
+    except (FileNotFoundError, OSError):
+        return {}
+    return parse_interaction_table(text)
 
 
 def sheet_component_names(sheet: Sheet) -> tuple[str, ...]:

@@ -195,9 +195,9 @@ def outcome(
     notes = list(notes)
     if not balance.second_law_complete:
         notes.append(
-            "no medium_temperature is given, so entropy_generation_W_K is only the stream's "
-            "entropy change: the second-law check of this heat needs a medium_temperature "
-            "(the temperature of the heating or cooling medium)"
+            "no medium_temperature is given, so entropy_generation_W_K (and lost_work_W with it) "
+            "is only the stream's entropy change: the second-law check of this heat needs a "
+            "medium_temperature (the temperature of the heating or cooling medium)"
         )
     paths = tuple((o, path_between(inlets[i].state, outlets[o].state)) for i, o in pairs)
     return UnitOutcome(

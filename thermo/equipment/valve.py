@@ -6,7 +6,7 @@ No heat, no work; all the pressure given up is lost as entropy generation.
 from __future__ import annotations
 
 from .. import flash
-from .common import Flow, UnitOutcome, outcome, positive_pressure
+from .common import Flow, UnitError, UnitOutcome, outcome, positive_pressure
 
 
 def throttle(
@@ -25,9 +25,12 @@ def throttle(
     Joule-Thomson effect; absent for a zero drop).
     """
     state_in = inlet.state
+    if outlet_pressure is None and pressure_drop is None:
+        raise UnitError("neither outlet_pressure nor pressure_drop is given", key="outlet_pressure",
+                        fix="give one of outlet_pressure or pressure_drop")
     if outlet_pressure is None:
         key = "pressure_drop"
-        outlet_pressure = state_in.pressure - (pressure_drop or 0.0)
+        outlet_pressure = state_in.pressure - pressure_drop
     else:
         key = "outlet_pressure"
     pressure = positive_pressure(outlet_pressure, key, state_in.pressure)
