@@ -211,4 +211,6 @@ def _residual_chunk(model, t, p, x):
     small_wins = results[0][0] < results[1][0]
     pick = lambda k: np.where(small_wins, results[0][k], results[1][k])  # noqa: E731
     distinct = v_small < v_large * (1.0 - 1e-12)
-    return pick(1), pick(2), pick(3), small_wins & distinct
+    # a lone root is labelled as the one-state path labels it: by the model's own critical density
+    lone_dense = model.at(float(t[0]), x).liquid_like(v_large)
+    return pick(1), pick(2), pick(3), np.where(distinct, small_wins, lone_dense)
