@@ -5,6 +5,7 @@ path, its line and a fix, and never another exception type."""
 from __future__ import annotations
 
 import string
+import tomllib
 from pathlib import Path
 
 import pytest
@@ -659,3 +660,26 @@ def test_random_bytes_give_only_sheet_errors(data):
         parse_sheet_bytes(data)
     except SheetError as error:
         assert error.problems
+
+
+def _paths(node, path=()):
+    if isinstance(node, dict):
+        for key, value in node.items():
+            yield path + (key,)
+            yield from _paths(value, path + (key,))
+    elif isinstance(node, list):
+        for position, value in enumerate(node):
+            yield path + (position,)
+            yield from _paths(value, path + (position,))
+
+
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(_documents)
+def test_every_key_of_a_random_document_is_located_on_a_line_that_holds_it(document):
+    text = tomli_w.dumps(document)
+    lines = text.split("\n")  # TOML lines end at \n only (str.splitlines also splits at \x85 and more)
+    index = locate_keys(text)
+    for path in _paths(tomllib.loads(text)):
+        assert path in index.locations, path
+        if isinstance(path[-1], str):
+            assert path[-1] in lines[index.locations[path].line - 1], path

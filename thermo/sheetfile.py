@@ -343,14 +343,17 @@ class _Scanner:
                     is_array = text.startswith("[[", i)
                     parts, j = self.read_key(i + (2 if is_array else 1))
                     path: tuple = ()
-                    for name, start, end in parts:
+                    for position, (name, start, end) in enumerate(parts):
                         path = path + (name,)
                         self.index.segments.append(KeySegment(path, start, end))
+                        if path in array_counts and not (is_array and position == len(parts) - 1):
+                            path = path + (array_counts[path],)  # a sub-table of the latest element
                     self.record(path, parts[0][1])
                     if is_array:
-                        count = array_counts.get(path, 0)
-                        array_counts[path] = count + 1
+                        count = array_counts.get(path, -1) + 1
+                        array_counts[path] = count
                         path = path + (count,)
+                        self.record(path, parts[0][1])
                     if self.index.headers:
                         last = self.index.headers[-1]
                         self.index.headers[-1] = TableHeader(last.path, last.start, line_start, last.is_array)
