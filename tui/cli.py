@@ -22,6 +22,7 @@ EXIT_VIOLATIONS = 1
 EXIT_ERROR = 2
 EXIT_INTERRUPTED = 130
 EXIT_CHANGED = 1  # statepath diff, as diff(1)
+EXIT_NO_MATCH = 1  # statepath components FILTER, as grep(1)
 
 PROG = "statepath"
 COMMANDS = ("solve", "check", "diff", "new", "components", "open")
@@ -338,7 +339,7 @@ def cmd_components(args, stdout: TextIO, stderr: TextIO) -> int:
     if not rows:
         print(f"No library component matches {args.filter!r}.", file=stdout)
         print("Run `statepath components` for the full list, or define one under [components.NAME].", file=stdout)
-        return EXIT_ERROR
+        return EXIT_NO_MATCH
     table = Table(box=box.SIMPLE_HEAD, pad_edge=False)
     table.add_column("name")
     table.add_column("formula")
@@ -364,6 +365,14 @@ def cmd_components(args, stdout: TextIO, stderr: TextIO) -> int:
 # ------------------------------------------------------------------ open
 
 
+def interactive_terminal() -> bool:
+    """True when both stdin and stdout are a terminal (the app can run)."""
+    try:
+        return sys.stdin.isatty() and sys.stdout.isatty()
+    except (AttributeError, ValueError):  # a closed or replaced stream
+        return False
+
+
 def cmd_open(args, stdout: TextIO, stderr: TextIO) -> int:
     path = args.file
     if path is not None:
@@ -372,9 +381,6 @@ def cmd_open(args, stdout: TextIO, stderr: TextIO) -> int:
             raise CommandError(f"{path}: this is a folder, not a flowsheet file", "give the path of a .toml file")
         if not file_path.exists():
             raise CommandError(f"{path}: no such file", f"create one with `statepath new {path}`, then open it")
-    if not (sys.stdin.isatty() and sys.stdout.isatty()):
-        raise CommandError("the interactive app needs a terminal (stdin and stdout are not one here)",
-                           "run it in a terminal, or use `statepath solve FILE` for a printed table")
     try:
         import importlib
 
@@ -387,6 +393,9 @@ def cmd_open(args, stdout: TextIO, stderr: TextIO) -> int:
     run_app = getattr(app, "run_app", None)
     if run_app is None:
         raise CommandError("the interactive app (tui.app) has no run_app entry point", "update statepath")
+    if not interactive_terminal():
+        raise CommandError("the interactive app needs a terminal (stdin and stdout are not one here)",
+                           "run it in a terminal, or use `statepath solve FILE` for a printed table")
     outcome = run_app(path or None)
     return outcome if isinstance(outcome, int) else EXIT_OK
 
@@ -488,7 +497,8 @@ examples:
 """
 
 _COMPONENTS_EPILOG = """\
-FILTER matches part of a name, formula or alias (case ignored).
+FILTER matches part of a name, formula or alias (case ignored); exit 1 when
+nothing matches.
 
 examples:
   statepath components
@@ -609,7 +619,7 @@ def run(argv: Sequence[str] | None, stdout: TextIO, stderr: TextIO) -> int:
     except SystemExit as stop:  # --help, --version, or a usage error
         return stop.code if isinstance(stop.code, int) else (EXIT_OK if stop.code is None else EXIT_ERROR)
     if args.command is None:
-        if sys.stdin.isatty() and sys.stdout.isatty():
+        if interactive_terminal():
             args = parser.parse_args(["open"])
         else:
             parser.print_help(stderr)
