@@ -183,7 +183,7 @@ def envelope_point(kernel: CubicKernel, z: np.ndarray, beta: float, spec: str, v
             step *= limit / abs(step[size])
         if largest > 3.0:
             step *= 3.0 / largest
-        ln_k = ln_k + step[:size]
+        ln_k = np.clip(ln_k + step[:size], -200.0, 200.0)
         ln_free += float(step[size])
         t, p = temperature_pressure(ln_free)
         if not (math.isfinite(t) and math.isfinite(p)) or t <= 0.0 or p <= 0.0:

@@ -25,6 +25,7 @@ over the model's mixture.
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -87,6 +88,33 @@ ENTROPY_TOLERANCE = 1e-9  # J/(mol K), PS target
 T_SEARCH_LOW = 10.0  # K, the temperature search of PH and PS flashes stays inside
 T_SEARCH_HIGH = 5000.0  # K
 FAST_PASS_STEPS = 12  # one-phase temperature search before the equilibrium search takes over
+
+
+def _guarded(operation: str, spec_names: tuple[str, ...]):
+    """Turn a numerical breakdown deep inside a flash (overflow, a singular
+    matrix, a cubic without a root) into a FlashError naming the request;
+    numpy's floating-point warnings are silenced inside, since every answer
+    is verified before it is returned."""
+
+    def decorate(function):
+        @functools.wraps(function)
+        def guarded(model, *args, **kwargs):
+            with np.errstate(all="ignore"):
+                try:
+                    return function(model, *args, **kwargs)
+                except (FlashError, StateInputError):
+                    raise
+                except (ArithmeticError, np.linalg.LinAlgError, ValueError) as error:
+                    values = dict(zip(spec_names, args))
+                    spec = {k: float(v) for k, v in values.items() if isinstance(v, (int, float))}
+                    x = np.asarray(args[len(spec_names)] if len(args) > len(spec_names) else kwargs.get("x", []), dtype=float)
+                    raise FlashError(
+                        f"{operation} of {describe_state(model, x, **spec)}: numerical breakdown ({error})"
+                    ) from None
+
+        return guarded
+
+    return decorate
 
 
 # --- preparing a request -------------------------------------------------------
@@ -175,9 +203,19 @@ def _lowers_gibbs(state, z, ln_phi_feed, result: Split) -> bool:
 def _from_split(state: CubicAtTP, z: np.ndarray, result: Split, where: str) -> _Equilibrium:
     _verify_split(state, z, result, where)
     notes = (NEAR_CRITICAL,) if near_critical_split(result.ln_k) else ()
-    if result.props_x.liquid_like and result.props_y.liquid_like:
+    if _both_liquid(state, result):
         notes = notes + (LIQUID_LIQUID,)
     return _Equilibrium(state, z, result, "auto", notes)
+
+
+def _both_liquid(state: CubicAtTP, result: Split) -> bool:
+    """Whether a split is liquid-liquid: both roots liquid-like, and the
+    lighter phase below its own (Kay's rule) pseudo-critical temperature, so
+    that a dense vapor near a critical point is still called vapor."""
+    if not (result.props_x.liquid_like and result.props_y.liquid_like):
+        return False
+    lighter = result.y if result.props_y.molar_volume >= result.props_x.molar_volume else result.x
+    return state.temperature < float(lighter @ state.kernel.tc)
 
 
 def _verify_split(state: CubicAtTP, z: np.ndarray, result: Split, where: str) -> None:
@@ -250,6 +288,7 @@ def _saturated_stream(model, point: SaturationPoint, z_full: np.ndarray, active,
 
 
 # --- TP flash ----------------------------------------------------------------
+@_guarded("TP flash", ("T", "P"))
 def flash_tp(model, temperature: float, pressure: float, x: np.ndarray) -> StreamState:
     """Equilibrium state at temperature (K), pressure (Pa) and overall mole
     fractions x: one phase, or a vapor-liquid split.
@@ -268,6 +307,7 @@ def flash_tp(model, temperature: float, pressure: float, x: np.ndarray) -> Strea
 
 
 # --- PH and PS flashes -----------------------------------------------------------
+@_guarded("PH flash", ("P", "H"))
 def flash_ph(model, pressure: float, enthalpy: float, x: np.ndarray, guess: float = 300.0) -> StreamState:
     """Equilibrium state at pressure (Pa) with molar enthalpy ``enthalpy``
     (J/mol, the engine's reference state); ``guess`` (K) starts the
@@ -275,6 +315,7 @@ def flash_ph(model, pressure: float, enthalpy: float, x: np.ndarray, guess: floa
     return _flash_p_spec(model, pressure, enthalpy, x, guess, "H")
 
 
+@_guarded("PS flash", ("P", "S"))
 def flash_ps(model, pressure: float, entropy: float, x: np.ndarray, guess: float = 300.0) -> StreamState:
     """Equilibrium state at pressure (Pa) with molar entropy ``entropy``
     (J/(mol K)); ``guess`` (K) starts the temperature search. Compressors
@@ -307,7 +348,7 @@ def _search_temperature(evaluate, target, guess, low, high, tolerance, where, wh
     halving the miss; one-sided steps are limited so that a phase boundary
     is approached, not jumped. Returns (T, payload); raises FlashError when
     no temperature in [low, high] meets the target."""
-    t = min(max(guess, low * 1.001), high * 0.999)
+    t = min(max(guess, low), high)
     below = above = None  # temperatures known to give values below / above the target
     previous = math.inf
     for _ in range(max_steps):
@@ -317,11 +358,11 @@ def _search_temperature(evaluate, target, guess, low, high, tolerance, where, wh
             return t, payload
         if miss < 0.0:
             below = t
-            if t >= high * 0.999:
+            if t >= high:
                 raise FlashError(f"{where}: the {what} target lies above what {high:.6g} K gives")
         else:
             above = t
-            if t <= low * 1.001:
+            if t <= low:
                 raise FlashError(f"{where}: the {what} target lies below what {low:.6g} K gives")
         lo = below if below is not None else low
         hi = above if above is not None else high
@@ -337,8 +378,8 @@ def _search_temperature(evaluate, target, guess, low, high, tolerance, where, wh
             candidate = min(max(newton, t * 0.6), t * 1.6) if math.isfinite(newton) else (
                 t * 1.3 if miss < 0.0 else t / 1.3
             )
-            if not lo < candidate < hi:
-                candidate = 0.5 * (t + (hi if miss < 0.0 else lo))
+            # toward an unexplored end, go no further than the end itself
+            candidate = min(max(candidate, low), high)
         previous = abs(miss)
         t = candidate
     raise FlashError(f"{where}: the temperature search did not converge in {max_steps} steps")
@@ -486,6 +527,7 @@ def _check_fraction(vapor_fraction: float) -> None:
         raise StateInputError(f"vapor fraction {vapor_fraction!r} must lie between 0 and 1")
 
 
+@_guarded("phase-envelope point", ())
 def envelope(model, x: np.ndarray, vapor_fraction: float, temperature: float | None = None,
              pressure: float | None = None) -> EnvelopePoint:
     """The point of the phase envelope of feed x with the given vapor
@@ -494,7 +536,7 @@ def envelope(model, x: np.ndarray, vapor_fraction: float, temperature: float | N
     the result are over the whole mixture."""
     _check_fraction(vapor_fraction)
     if (temperature is None) == (pressure is None):
-        raise ValueError("give exactly one of temperature and pressure")
+        raise TypeError("give exactly one of temperature and pressure")
     fixed = "T" if temperature is not None else "P"
     value = temperature if temperature is not None else pressure
     z, active = _prepare(model, temperature or 300.0, pressure or 1e5, x)
@@ -559,6 +601,7 @@ def _stream_at_fraction(model, point: EnvelopePoint, z: np.ndarray, active) -> S
     return combine_phases(model, t, p, z, tuple(phases), notes)
 
 
+@_guarded("vapor-fraction flash", ("P", "vapor_fraction"))
 def flash_pv(model, pressure: float, vapor_fraction: float, x: np.ndarray) -> StreamState:
     """Equilibrium state at pressure (Pa) with the given vapor fraction
     (mol vapor per mol stream, 0 = saturated liquid, 1 = saturated vapor):
@@ -569,6 +612,7 @@ def flash_pv(model, pressure: float, vapor_fraction: float, x: np.ndarray) -> St
     return _stream_at_fraction(model, point, z, active)
 
 
+@_guarded("vapor-fraction flash", ("T", "vapor_fraction"))
 def flash_tv(model, temperature: float, vapor_fraction: float, x: np.ndarray) -> StreamState:
     """Equilibrium state at temperature (K) with the given vapor fraction:
     the pressure is found."""

@@ -13,7 +13,7 @@ LIQUID_LIQUID = "liquid-liquid"
 TR_NEAR = 0.02
 PR_NEAR = 0.10
 # A two-phase split whose ln K-values all lie within this band of 0 is flagged.
-LN_K_NEAR = 0.1
+LN_K_NEAR = 0.2
 
 
 class FlashError(RuntimeError):

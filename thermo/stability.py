@@ -31,6 +31,7 @@ CONVERGED_STEP = 1e-10  # max |delta ln W| of a converged stationary point
 SUBSTITUTION_STEPS = 40  # before the Newton finish
 NEWTON_STEPS = 30
 ACCELERATE_EVERY = 5
+LN_W_LIMIT = 200.0  # |ln W| is held below this, so that no trial mole number underflows to zero
 
 
 @dataclass(frozen=True)
@@ -69,6 +70,7 @@ def _trial(state: CubicAtTP, z: np.ndarray, ln_z: np.ndarray, d: np.ndarray, ln_
     saved_plain = None
     iterations = 0
     for iterations in range(1, SUBSTITUTION_STEPS + 1):
+        ln_w = np.clip(ln_w, -LN_W_LIMIT, LN_W_LIMIT)
         w_moles = np.exp(ln_w)
         total = float(w_moles.sum())
         ln_phi, _, _ = state.ln_phi(w_moles / total)
@@ -104,7 +106,7 @@ def _trial(state: CubicAtTP, z: np.ndarray, ln_z: np.ndarray, d: np.ndarray, ln_
 
 def _newton_trial(state, z, ln_z, d, ln_w, kind, done):
     """Second-order finish on alpha = 2 sqrt(W), with step halving on tm."""
-    w_moles = np.exp(ln_w)
+    w_moles = np.exp(np.clip(ln_w, -LN_W_LIMIT, LN_W_LIMIT))
     for step_count in range(1, NEWTON_STEPS + 1):
         total = float(w_moles.sum())
         props = state.derivatives(w_moles / total)
@@ -129,7 +131,7 @@ def _newton_trial(state, z, ln_z, d, ln_w, kind, done):
         alpha = 2.0 * root_w
         for _ in range(20):
             trial_alpha = alpha + step
-            trial_w = np.maximum(trial_alpha, 1e-150) ** 2 / 4.0
+            trial_w = np.maximum(trial_alpha, 1e-80) ** 2 / 4.0
             trial_total = float(trial_w.sum())
             trial_phi, _, _ = state.ln_phi(trial_w / trial_total)
             trial_tm = 1.0 + float(trial_w @ (np.log(trial_w) + trial_phi - d - 1.0))

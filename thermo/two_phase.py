@@ -31,6 +31,7 @@ SUBSTITUTION_STEPS = 200
 NEWTON_STEPS = 30
 ACCELERATE_EVERY = 5
 TRIVIAL_LN_K = 1e-4  # max |ln K| below which the phases have merged into one
+LN_K_LIMIT = 200.0  # |ln K| is held below this, so that no mole fraction underflows to zero
 
 
 @dataclass(frozen=True)
@@ -82,6 +83,7 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
     error = math.inf
     iterations = 0
     for iterations in range(1, SUBSTITUTION_STEPS + 1):
+        ln_k = np.clip(ln_k, -LN_K_LIMIT, LN_K_LIMIT)
         if float(np.max(np.abs(ln_k))) < TRIVIAL_LN_K:
             return None
         k = np.exp(ln_k)
@@ -133,6 +135,7 @@ def _newton(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float, done
     eye = np.eye(size)
     previous_error = math.inf
     for step_count in range(1, NEWTON_STEPS + 1):
+        ln_k = np.clip(ln_k, -LN_K_LIMIT, LN_K_LIMIT)
         k = np.exp(ln_k)
         try:
             beta = rachford_rice(z, k, beta)
