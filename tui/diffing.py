@@ -114,7 +114,7 @@ def show_value(value: object, kind: str | None, system: str) -> str:
     if isinstance(value, (int, float)):
         if kind is not None:
             return format_quantity(float(value), kind, system)
-        return format_number(float(value), significant=6, max_decimals=6)
+        return f"{float(value):.6g}"
     return repr(value) if isinstance(value, str) else str(value)
 
 
