@@ -372,3 +372,19 @@ def test_renamed_streams_keep_the_flowsheet_the_same(old, new):
     rename = {old: new}
     assert [rename.get(s, s) for s in before.stream_names()] == list(after.stream_names())
     assert [u.type for u in before.units.values()] == [u.type for u in after.units.values()]
+
+
+def test_set_value_adds_to_an_inline_table_in_its_own_style():
+    after = set_value(parse_sheet_text(BASE).document, ("streams", "well-gas", "composition", "helium"), 0.0)
+    removed, added = changed_lines(BASE, after.as_string())
+    assert added == [removed[0].replace("carbon-dioxide = 0.01 }", "carbon-dioxide = 0.01, helium = 0.0 }")]
+    assert parse_sheet_text(after.as_string()).sheet.streams["well-gas"].composition["helium"] == 0.0
+
+
+def test_set_value_adds_to_dotted_keys_and_sub_tables():
+    document = parse_sheet_text(COMMENTED).document
+    after = set_value(document, ("streams", "feed-a", "composition", "propane"), 0.0).as_string()
+    assert changed_lines(COMMENTED, after) == ([], ["composition.propane = 0.0"])
+    after = set_value(document, ("streams", "feed-b", "composition", "propane"), 0.0).as_string()
+    assert changed_lines(COMMENTED, after) == ([], ["propane = 0.0"])
+    assert parse_sheet_text(after).sheet.streams["feed-b"].composition == {"methane": 1.0, "propane": 0.0}

@@ -635,7 +635,7 @@ def _only_sheet_errors(text: str) -> None:
         assert error.problems and str(error)
 
 
-@settings(max_examples=120, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(_documents)
 def test_random_toml_documents_give_a_sheet_or_a_sheet_error(document):
     _only_sheet_errors(tomli_w.dumps(document))
@@ -673,7 +673,7 @@ def _paths(node, path=()):
             yield from _paths(value, path + (position,))
 
 
-@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=50, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(_documents)
 def test_every_key_of_a_random_document_is_located_on_a_line_that_holds_it(document):
     text = tomli_w.dumps(document)

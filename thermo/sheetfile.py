@@ -1435,8 +1435,19 @@ def _add_key_text(text: str, key_path: tuple, value: Any, what: str) -> str | No
     header = next((h for h in index.headers if h.path == parent and not h.is_array), None)
     if header is not None:
         return _insert_at(text, _content_end(text, header.start, header.body_end), line)
-    if parent in index.locations:
-        return None  # an inline table, dotted keys or a table implied by its sub-tables
+    location = index.locations.get(parent)
+    if location is not None and location.value_span and text[location.value_span[0]] == "{":
+        start, end = location.value_span  # an inline table: add before its closing brace
+        close = end - 1
+        inner_end = close
+        while inner_end > start + 1 and text[inner_end - 1] in " \t":
+            inner_end -= 1
+        entry = _key_line(str(key), value)
+        if inner_end == start + 1:
+            return text[:start] + "{ " + entry + " }" + text[end:]
+        return text[:inner_end] + ", " + entry + text[inner_end:]
+    if location is not None:
+        return None  # dotted keys or a table implied by its sub-tables: tomlkit places it
     at = _new_table_at(text, index, parent)
     block = f"[{format_key_path(parent)}]{newline}{line}"
     prefix = newline if text[:at].strip() else ""
