@@ -152,6 +152,19 @@ def test_no_entropy_verdict_without_a_medium_temperature():
     assert any("medium_temperature" in note for note in result.units["u"].notes)
 
 
+@pytest.mark.parametrize("type_, params", [
+    ("compressor", {"pressure_ratio": 2.0, "isentropic_efficiency": 1.0}),
+    ("expander", {"pressure_ratio": 0.5, "isentropic_efficiency": 1.0}),
+    ("valve", {"pressure_drop": 0.0}),
+])
+def test_reversible_limits_sit_inside_the_entropy_tolerance(type_, params):
+    # An ideal machine or a valve with no drop generates no entropy; flash
+    # tolerances must not make that a violation.
+    result = one_unit(type_, params)
+    assert result.status == "ok", violation_codes(result)
+    assert abs(result.units["u"].entropy_generation_W_K) < 1e-6
+
+
 def test_a_heating_medium_colder_than_the_stream_outlet():
     result = one_unit("heater", {"outlet_temperature": 353.15, "medium_temperature": 333.15}, temperature=293.15)
     violation = check_violation(result, "medium-too-cold")

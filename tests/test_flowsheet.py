@@ -405,3 +405,11 @@ def test_every_model_solves_the_same_chain(model):
     else:
         assert drop > 5.0
     assert_all_balanced(result)
+
+
+def test_a_stream_listed_twice_by_one_unit_is_an_error():
+    units = [unit("mix", "mixer", {"inlets": ("gas", "gas"), "outlet": "out"})]
+    result = solve_sheet(sheet([feed("gas")], units))
+    assert result.status == "error"
+    assert result.errors[0].code == "stream-listed-twice"
+    assert result.errors[0].where == "units.mix"

@@ -212,6 +212,12 @@ def check_connections(sheet: Sheet) -> list[SolveError]:
             errors.append(_error(sheet, "unknown-unit-type", f"unit {unit.name!r} has type {unit.type!r}, which statepath does not know",
                                  "use one of " + ", ".join(UNIT_SOLVERS), "units", unit.name, "type"))
             continue
+        for streams, what in ((unit.inlet_streams, "inlets"), (unit.outlet_streams, "outlets")):
+            repeated = sorted({name for name in streams if streams.count(name) > 1})
+            if repeated:
+                errors.append(_error(sheet, "stream-listed-twice",
+                                     f"unit {unit.name!r} lists stream {repeated[0]!r} twice among its {what}",
+                                     "name each stream once", "units", unit.name))
         n_in, n_out = _PORTS[unit.type]
         for streams, count, what in ((unit.inlet_streams, n_in, "inlet"), (unit.outlet_streams, n_out, "outlet")):
             if (count is None and not streams) or (count is not None and len(streams) != count):
@@ -225,7 +231,7 @@ def check_connections(sheet: Sheet) -> list[SolveError]:
                                      f"stream {stream!r} is a feed ([streams.{stream}]) and also the outlet of unit {unit.name!r}",
                                      "rename the outlet, or remove the feed's table: a unit's outlet gets its state from the unit",
                                      "units", unit.name, *_role_of(unit, stream)))
-            elif stream in producer:
+            elif stream in producer and producer[stream] != unit.name:
                 errors.append(_error(sheet, "two-producers",
                                      f"stream {stream!r} is the outlet of both {producer[stream]!r} and {unit.name!r}",
                                      "give each outlet its own name and join them with a mixer",
