@@ -8,7 +8,6 @@ import difflib
 import os
 import stat
 import tomllib
-from pathlib import Path
 
 import pytest
 from hypothesis import given, settings

@@ -56,7 +56,6 @@ from thermo.spec import (
     UnitSpec,
     UserComponent,
     Where,
-    line_for,
     pair_key,
 )
 
@@ -138,7 +137,13 @@ class KeyIndex:
 
     def line_of(self, key_path: Iterable) -> int | None:
         """1-based line of ``key_path``, or of its longest written prefix."""
-        return line_for(self.lines(), tuple(key_path))
+        path = tuple(key_path)
+        while path:
+            location = self.locations.get(path)
+            if location is not None:
+                return location.line
+            path = path[:-1]
+        return None
 
     def lines(self) -> dict[tuple, int]:
         """key path -> 1-based line, for every path written."""
