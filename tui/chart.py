@@ -198,7 +198,9 @@ def log_ticks(low: float, high: float) -> list[float]:
     multipliers = (1,) if last - first > 3 else (1, 2, 5)
     ticks = [m * 10.0 ** e for e in range(first, last + 1) for m in multipliers]
     inside = [t for t in ticks if low * (1 - 1e-9) <= t <= high * (1 + 1e-9)]
-    return inside if len(inside) >= 2 else [low, high]
+    if len(inside) >= 3:
+        return inside
+    return [t for t in nice_ticks(low, high, 4) if t > 0] or [low, high]  # less than a decade: even steps
 
 
 def _padded(low: float, high: float, log: bool) -> tuple[float, float]:
@@ -281,7 +283,7 @@ class BrailleCanvas:
 
 
 def _tick_label(value: float) -> str:
-    return format_number(value, significant=3, max_decimals=3)
+    return "0" if value == 0 else format_number(value, significant=3, max_decimals=3)
 
 
 def draw_chart(data: ChartData, width: int, height: int) -> list[Text]:

@@ -32,8 +32,10 @@ class MainScreen(Screen[None]):
     ``refresh_all`` when the document or the result changes."""
 
     BINDINGS = [
-        Binding("tab", "next_pane", "Next pane", show=False),
-        Binding("shift+tab", "previous_pane", "Previous pane", show=False),
+        # Keys that move the focus are priority bindings: they run as the key
+        # is read, so the keys typed after them go to the new pane.
+        Binding("tab", "next_pane", "Next pane", show=False, priority=True),
+        Binding("shift+tab", "previous_pane", "Previous pane", show=False, priority=True),
         Binding("1", "pane('streams')", "Streams", show=False),
         Binding("2", "pane('units')", "Units", show=False),
         Binding("3", "pane('detail')", "Detail", show=False),
@@ -42,6 +44,9 @@ class MainScreen(Screen[None]):
         Binding("n", "rename_item", "Name"),
         Binding("g", "sheet_settings", "Sheet", show=False),
         Binding("escape", "back", "Back", show=False),
+        # The screen takes enter first so that the pane or editor it opens has
+        # the focus before the next key is read (fast typing, pasting over SSH).
+        Binding("enter", "open", "Open", show=False, priority=True),
     ]
 
     def __init__(self) -> None:
@@ -65,7 +70,7 @@ class MainScreen(Screen[None]):
 
     def on_mount(self) -> None:
         self._apply_layout(self.app.size.width, self.app.size.height)
-        self.query_one(StreamTable).focus()
+        self.set_focus(self.query_one(StreamTable))
         self.refresh_all()
 
     def on_resize(self, event: events.Resize) -> None:
@@ -107,9 +112,11 @@ class MainScreen(Screen[None]):
         self.active = pane
         self._fold()
         target = {"streams": StreamTable, "units": UnitTable, "detail": FieldList}[pane]
-        self.query_one(target).focus()
+        self.set_focus(self.query_one(target))  # at once: the next key typed goes there
 
     def on_descendant_focus(self, event: events.DescendantFocus) -> None:
+        if event.widget is not self.focused:
+            return  # a focus already moved on (keys typed faster than the screen redraws)
         if isinstance(event.widget, (StreamTable, UnitTable)) and event.widget.current_name:
             self.select("stream" if isinstance(event.widget, StreamTable) else "unit", event.widget.current_name)
         for pane in PANES:
@@ -142,6 +149,20 @@ class MainScreen(Screen[None]):
             return
         if self.active == "detail":
             self._focus_pane("units" if self.selection[0] == "unit" else "streams")
+
+    async def action_open(self) -> None:
+        from textual.widgets import Input
+
+        focused = self.focused
+        if isinstance(focused, (StreamTable, UnitTable)):
+            name = focused.current_name
+            if name is not None:
+                self.select("stream" if isinstance(focused, StreamTable) else "unit", name)
+                self._focus_pane("detail")
+        elif isinstance(focused, FieldList):
+            focused.action_edit_field()
+        elif isinstance(focused, Input):
+            await focused.action_submit()
 
     def action_sheet_settings(self) -> None:
         self.selection = ("sheet", None)
@@ -240,11 +261,10 @@ class MainScreen(Screen[None]):
         if error:
             detail.editor.show_error(error)
             return
-        detail.editor.display = False
-        detail.field_list.focus()
+        detail.editor.close(focus_after=detail.field_list)
 
     def on_field_editor_cancelled(self, message: FieldEditor.Cancelled) -> None:
-        self.query_one(DetailPane).field_list.focus()
+        self.set_focus(self.query_one(DetailPane).field_list)
 
     def on_field_list_clear_wanted(self, message: FieldList.ClearWanted) -> None:
         field = message.field

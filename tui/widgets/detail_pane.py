@@ -76,8 +76,16 @@ class FieldList(DataTable):
 
     def action_edit_field(self) -> None:
         field = self.current
-        if field is not None:
-            self.post_message(self.EditWanted(field))
+        if field is None:
+            return
+        pane = self.parent
+        if field.editable and field.key_path and field.kind != "model" and isinstance(pane, DetailPane):
+            # Opened here, at once, so that what is typed next goes into the box.
+            from .fields import key_path_text
+
+            pane.editor.start(field.key_path, key_path_text(field.key_path), field.kind, field.entered or "")
+            return
+        self.post_message(self.EditWanted(field))
 
     def action_clear_field(self) -> None:
         field = self.current

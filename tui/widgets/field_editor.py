@@ -62,7 +62,9 @@ class FieldEditor(Vertical):
         box.cursor_position = len(text)
         self.show_error("")
         self.display = True
-        box.focus()
+        # Focus now, not after the queue: keys typed straight after the edit
+        # key (a fast typist, a paste over SSH) must land in the box.
+        self.screen.set_focus(box)
 
     def show_error(self, message: str) -> None:
         error = self.query_one("#editor-error", Static)
@@ -73,6 +75,12 @@ class FieldEditor(Vertical):
         event.stop()
         self.post_message(self.Submitted(self.key_path, self.kind, event.value))
 
-    def action_cancel(self) -> None:
+    def close(self, focus_after=None) -> None:
+        """Hide, handing the focus straight to ``focus_after``."""
         self.display = False
+        if focus_after is not None:
+            self.screen.set_focus(focus_after)
+
+    def action_cancel(self) -> None:
+        self.close()
         self.post_message(self.Cancelled())
