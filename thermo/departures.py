@@ -80,6 +80,11 @@ def residual(model, temperature: float, pressure: float, x: np.ndarray, root: st
     "liquid" force the largest or smallest (used by flash trial phases).
     """
     check_state(temperature, pressure, x)
+    if len(x) != len(model.mixture.names):
+        raise StateInputError(
+            f"mole fractions {np.round(x, 8).tolist()} have {len(x)} entries for the "
+            f"{len(model.mixture.names)} components {', '.join(model.mixture.names)}"
+        )
     family = model.family
     if family == PRESSURE_EXPLICIT:
         return _from_helmholtz(model, temperature, pressure, x, root)
