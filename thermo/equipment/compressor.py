@@ -49,6 +49,20 @@ def isentropic_state(model, state, pressure: float):
     return flash.flash_ps(model, pressure, state.entropy, state.composition, guess)
 
 
+def shaft_work_outcome(inlet: Flow, state_out, *, ambient_temperature: float, details: dict) -> UnitOutcome:
+    """The outcome of an adiabatic machine taking ``inlet`` to ``state_out``:
+    power n (h_out - h_in) in W (positive into the stream), no heat."""
+    return outcome(
+        (inlet,),
+        (Flow(state_out, inlet.molar_flow),),
+        duty=None,
+        power=inlet.molar_flow * (state_out.enthalpy - inlet.state.enthalpy),
+        ambient_temperature=ambient_temperature,
+        pairs=((0, 0),),
+        details=details,
+    )
+
+
 def _stepwise_polytropic(model, state_in, pressure_out: float, efficiency: float, steps: int) -> float:
     """Outlet enthalpy (J/mol) after ``steps`` geometric pressure steps, each
     isentropic-with-efficiency: dh = dh_s / eta_p."""
@@ -145,15 +159,7 @@ def compress(
         enthalpy = state_in.enthalpy + rise_s / eta
         details["isentropic_efficiency"] = eta
     state_out = flash.flash_ph(model, pressure, enthalpy, state_in.composition, ideal.temperature)
-    return outcome(
-        (inlet,),
-        (Flow(state_out, inlet.molar_flow),),
-        duty=None,
-        power=inlet.molar_flow * (state_out.enthalpy - state_in.enthalpy),
-        ambient_temperature=ambient_temperature,
-        pairs=((0, 0),),
-        details=details,
-    )
+    return shaft_work_outcome(inlet, state_out, ambient_temperature=ambient_temperature, details=details)
 
 
 def expand(
@@ -178,13 +184,10 @@ def expand(
     drop_s = state_in.enthalpy - ideal.enthalpy
     enthalpy = state_in.enthalpy - eta * drop_s
     state_out = flash.flash_ph(model, pressure, enthalpy, state_in.composition, ideal.temperature)
-    return outcome(
-        (inlet,),
-        (Flow(state_out, inlet.molar_flow),),
-        duty=None,
-        power=inlet.molar_flow * (state_out.enthalpy - state_in.enthalpy),
+    return shaft_work_outcome(
+        inlet,
+        state_out,
         ambient_temperature=ambient_temperature,
-        pairs=((0, 0),),
         details={
             "outlet_pressure_Pa": pressure,
             "pressure_ratio": pressure / state_in.pressure,

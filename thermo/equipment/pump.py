@@ -8,8 +8,8 @@ PH flash for the real outlet.
 from __future__ import annotations
 
 from .. import flash
-from .common import Flow, UnitError, UnitOutcome, check_efficiency, outcome, positive_pressure
-from .compressor import isentropic_state
+from .common import Flow, UnitError, UnitOutcome, check_efficiency, positive_pressure
+from .compressor import isentropic_state, shaft_work_outcome
 
 
 def pump(
@@ -41,13 +41,10 @@ def pump(
     rise_s = ideal.enthalpy - state_in.enthalpy
     state_out = flash.flash_ph(model, pressure, state_in.enthalpy + rise_s / eta, state_in.composition,
                                ideal.temperature)
-    return outcome(
-        (inlet,),
-        (Flow(state_out, inlet.molar_flow),),
-        duty=None,
-        power=inlet.molar_flow * (state_out.enthalpy - state_in.enthalpy),
+    return shaft_work_outcome(
+        inlet,
+        state_out,
         ambient_temperature=ambient_temperature,
-        pairs=((0, 0),),
         details={
             "outlet_pressure_Pa": pressure,
             "pressure_rise_Pa": pressure - state_in.pressure,
