@@ -446,3 +446,16 @@ def test_installed_console_script(tmp_path):
     assert done.stdout.splitlines()[0] == f"{broken}: error (1 problem)"
     assert done.stderr.startswith(f"statepath: {broken}:2")
     assert "Traceback" not in done.stderr
+
+
+def test_bare_statepath_without_a_terminal_prints_help_and_exits_2(capsys, monkeypatch):
+    monkeypatch.setattr(cli, "interactive_terminal", lambda: False)
+    code, out, err = run(capsys)
+    assert code == 2
+    assert "usage: statepath" in err and "examples:" in err
+
+
+def test_a_mistyped_command_is_not_taken_for_a_file(capsys):
+    code, out, err = run(capsys, "slove", LETDOWN)
+    assert code == 2
+    assert "invalid choice: 'slove'" in err
