@@ -533,19 +533,19 @@ def _converge(run: _Run, group: Group) -> None:
             q = np.clip(np.nan_to_num(q, nan=0.0), *WEGSTEIN_BOUNDS)
             x_new = q * x + (1.0 - q) * g
         x_old, g_old = x, g
-        x = x_new
+        x = np.array(x_new, dtype=float)
         offset = 0
         for s, flow in zip(group.tears, computed):
-            size = 2 + len(flow.state.composition)
-            part = x[offset:offset + size]
-            offset += size
-            if np.array_equal(part, g[offset - size:offset]):
+            part = slice(offset, offset + 2 + len(flow.state.composition))
+            offset = part.stop
+            if np.array_equal(x[part], g[part]):
                 run.flows[s] = flow
-            else:
-                try:
-                    run.flows[s] = _unpack(run, part, flow)
-                except (flash.FlashError, StateInputError):
-                    run.flows[s] = flow  # fall back to plain substitution this pass
+                continue
+            try:
+                run.flows[s] = _unpack(run, x[part], flow)
+            except (flash.FlashError, StateInputError):
+                run.flows[s] = flow  # plain substitution for this stream this pass
+                x[part] = g[part]
     raise _Refused([_error(
         run.sheet, "recycle-not-converged",
         f"the recycle loop through units {', '.join(group.units)} (tear stream{'s' if len(group.tears) > 1 else ''} "
