@@ -43,7 +43,8 @@ def test_mixing_different_gases_generates_entropy(pair):
     result = mixer.mix(model, (a, b), ambient_temperature=AMBIENT)
     hand = result.outlets[0].entropy_flow - a.entropy_flow - b.entropy_flow
     assert result.balance.entropy_generation == pytest.approx(hand, rel=1e-12)
-    # at least most of the ideal entropy of mixing, 40 R (-sum y ln y), is generated
+    # at least half the ideal entropy of mixing, 40 R (-sum y ln y), is generated (the
+    # real-gas correction at 20 bar is far smaller than that)
     y = result.outlets[0].state.composition
     ideal_mixing = -40.0 * 8.314462618 * float(np.sum(y[y > 0] * np.log(y[y > 0])))
     assert result.balance.entropy_generation > 0.5 * ideal_mixing
