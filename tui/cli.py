@@ -15,7 +15,7 @@ import os
 import sys
 from importlib import metadata, resources
 from pathlib import Path
-from typing import Sequence, TextIO
+from typing import Callable, Sequence, TextIO
 
 EXIT_OK = 0
 EXIT_VIOLATIONS = 1
@@ -84,17 +84,6 @@ def _version() -> str:
 # ------------------------------------------------------------------ loading
 
 
-def _load(path: str):
-    """(LoadedSheet, None) or (None, SheetError), for a file on disk."""
-    from thermo.errors import SheetError
-    from thermo.sheetfile import load_sheet
-
-    try:
-        return load_sheet(path), None
-    except SheetError as error:
-        return None, error
-
-
 def _solve_error_lines(result) -> list[str]:
     """``FILE:LINE: key.path: message`` for each error of a result."""
     lines = []
@@ -113,18 +102,26 @@ def _problem_lines(error) -> list[str]:
     return [problem.describe(error.path) for problem in error.problems]
 
 
-def _load_and_solve(path: str):
-    """(loaded, result, error lines): error lines empty when the sheet solved
-    (with or without violations)."""
+def _read_and_solve(read: Callable[[], object]):
+    """(loaded, result, error lines) for a sheet that ``read()`` returns as a
+    LoadedSheet (or refuses with a SheetError); the error lines are empty when
+    the sheet solved, with or without violations."""
+    from thermo.errors import SheetError
     from thermo.flowsheet import error_result, sheet_error_to_solve_errors, solve_sheet
-    from thermo.results import STATUS_ERROR
 
-    loaded, error = _load(path)
-    if error is not None:
+    try:
+        loaded = read()
+    except SheetError as error:
         return None, error_result(sheet_error_to_solve_errors(error)), _problem_lines(error)
     result = solve_sheet(loaded.sheet)
-    lines = _solve_error_lines(result) if result.status == STATUS_ERROR or result.errors else []
-    return loaded, result, lines
+    return loaded, result, _solve_error_lines(result)
+
+
+def _load_and_solve(path: str):
+    """``_read_and_solve`` for a file on disk."""
+    from thermo.sheetfile import load_sheet
+
+    return _read_and_solve(lambda: load_sheet(path))
 
 
 def _exit_code_of(result) -> int:
@@ -172,7 +169,7 @@ def check_file(path: str, strict: bool) -> tuple[int, str, list[str]]:
     from tui.render import collect_flags, count_flags, level_label, plural
 
     loaded, result, error_lines = _load_and_solve(path)
-    if loaded is None or error_lines:
+    if loaded is None or error_lines or _exit_code_of(result) == EXIT_ERROR:
         count = len(error_lines) or 1
         return EXIT_ERROR, f"{path}: error ({plural(count, 'problem')})", error_lines
     violations, cautions = count_flags(result)
@@ -205,16 +202,10 @@ def cmd_check(args, stdout: TextIO, stderr: TextIO) -> int:
 
 
 def _load_version_bytes(data: bytes, label: str):
-    from thermo.errors import SheetError
-    from thermo.flowsheet import solve_sheet
+    """``_read_and_solve`` for a version held in memory, named ``label`` in messages."""
     from thermo.sheetfile import parse_sheet_bytes
 
-    try:
-        loaded = parse_sheet_bytes(data, path=label)
-    except SheetError as error:
-        return None, None, _problem_lines(error)
-    result = solve_sheet(loaded.sheet)
-    return loaded, result, _solve_error_lines(result) if result.errors else []
+    return _read_and_solve(lambda: parse_sheet_bytes(data, path=label))
 
 
 def cmd_diff(args, stdout: TextIO, stderr: TextIO) -> int:
@@ -313,7 +304,8 @@ def cmd_new(args, stdout: TextIO, stderr: TextIO) -> int:
     except OSError as error:
         raise CommandError(f"{args.file}: cannot write the file: {error.strerror or error}",
                            "check the folder's permissions") from None
-    print(f"Wrote {args.file}: an invented let-down station to edit into your own.", file=stdout)
+    print(f"Wrote {args.file} from statepath's commented template: an invented example to edit into your own.",
+          file=stdout)
     print(f"Next: statepath solve {args.file}   (or statepath open {args.file})", file=stdout)
     return EXIT_OK
 

@@ -15,7 +15,7 @@ import subprocess
 from dataclasses import dataclass, fields
 from pathlib import Path
 
-from thermo.quantities import format_number, format_quantity
+from thermo.quantities import DISPLAY_KINDS, display_units, format_number, format_quantity, to_display
 from thermo.results import SheetResult
 from thermo.spec import SPEC_KEY_KINDS, Sheet
 
@@ -124,13 +124,11 @@ def _delta(old: object, new: object, kind: str | None, system: str) -> str:
     if not (isinstance(old, (int, float)) and isinstance(new, (int, float))) or isinstance(old, bool):
         return ""
     if kind in ("temperature", "pressure"):
-        from thermo.quantities import display_units, to_display
-
         difference = to_display(float(new), kind, system) - to_display(float(old), kind, system)
         unit = display_units(kind, system)
         unit = {"degC": "K", "degF": "degF", "bara": "bar", "psia": "psi"}.get(unit, unit)
         return f"{'+' if difference >= 0 else ''}{format_number(difference, significant=4, max_decimals=3)} {unit}"
-    if kind in ("power",) and float(old) != 0.0:
+    if kind == "power" and float(old) != 0.0:
         percent = 100.0 * (float(new) - float(old)) / abs(float(old))
         return f"{'+' if percent >= 0 else ''}{format_number(percent, significant=3, max_decimals=1)} %"
     return ""
@@ -170,12 +168,6 @@ _COMPONENT_KINDS = {
     "critical_pressure": "pressure",
     "normal_boiling_point": "temperature",
     "critical_volume": "molar_volume",
-}
-_DISPLAY_KIND_OF_SPEC = {
-    "temperature": "temperature",
-    "power": "power",
-    "pressure": "pressure",
-    "pressure_difference": "pressure_difference",
 }
 
 
@@ -285,7 +277,8 @@ def _diff_units(old: Sheet, new: Sheet) -> list[Change]:
             if va != vb:
                 changes.append(_input(CHANGED, f"{what}.{role}", va, vb))
         for key in _ordered_union(a.params, b.params):
-            kind = _DISPLAY_KIND_OF_SPEC.get(SPEC_KEY_KINDS.get(key, ""))
+            kind = SPEC_KEY_KINDS.get(key)
+            kind = kind if kind in DISPLAY_KINDS else None  # efficiencies, ratios, fractions: plain numbers
             va, vb = a.params.get(key), b.params.get(key)
             if va is None:
                 changes.append(_input(ADDED, f"{what}.{key}", new=vb, kind=kind))
