@@ -389,6 +389,7 @@ class _Run:
     outcomes: dict[str, UnitOutcome]
     inlets_of: dict[str, tuple[Flow, ...]]
     errors: list[SolveError]
+    ports: dict[str, tuple[tuple[str, ...], tuple[str, ...]]]  # unit -> (inlet streams, outlet streams)
     iterations: int = 0
 
 
@@ -434,7 +435,8 @@ def _solve_unit(run: _Run, name: str) -> None:
     """Solve unit ``name`` from the flows of its inlets; raises _Refused on failure."""
     sheet = run.sheet
     unit = sheet.units[name]
-    inlets = tuple(run.flows[s] for s in unit.inlet_streams)
+    inlet_names, outlet_names = run.ports[name]
+    inlets = tuple(run.flows[s] for s in inlet_names)
     try:
         result = UNIT_SOLVERS[unit.type](unit, inlets, run.model, sheet.ambient_temperature_K)
         _check_finite(result)
@@ -452,7 +454,7 @@ def _solve_unit(run: _Run, name: str) -> None:
                                "check the unit's specification and its inlet streams", "units", name)]) from None
     run.outcomes[name] = result
     run.inlets_of[name] = inlets
-    for stream, flow in zip(unit.outlet_streams, result.outlets):
+    for stream, flow in zip(outlet_names, result.outlets):
         run.flows[stream] = flow
 
 
@@ -564,10 +566,11 @@ def _unit_result(run: _Run, name: str) -> UnitResult:
     balance = result.balance
     where = f"units.{name}"
     found = rules.unit_cautions(unit.type, inlets, result, where=where, limits=sheet.limits)
-    for stream, flow in zip(unit.outlet_streams, result.outlets):
+    outlet_names = run.ports[name][1]
+    for stream, flow in zip(outlet_names, result.outlets):
         found.extend(rules.stream_cautions(flow.state, where=f"streams.{stream}", model=run.model, limits=sheet.limits))
     violations = rules.unit_violations(unit.type, inlets, result, where=where)
-    per_stream = {unit.outlet_streams[o]: change for o, change in result.paths}
+    per_stream = {outlet_names[o]: change for o, change in result.paths}
     details = dict(result.details)
     details["energy_balance_relative_residual"] = balance.relative_residual
     details["second_law_complete"] = balance.second_law_complete
@@ -641,7 +644,8 @@ def _solve(sheet: Sheet) -> SheetResult:
     structure = check_connections(sheet)
     if structure:
         raise _Refused(structure)
-    run = _Run(sheet, model, mixture, {}, {}, {}, [])
+    ports = {u.name: (u.inlet_streams, u.outlet_streams) for u in sheet.units.values()}
+    run = _Run(sheet, model, mixture, {}, {}, {}, [], ports)
     for name in sheet.streams:
         try:
             run.flows[name] = _feed_state(run, name)
@@ -654,8 +658,8 @@ def _solve(sheet: Sheet) -> SheetResult:
     plan = plan_solve(sheet)
     skipped: list[str] = []
     for group in plan.groups:
-        needed = {s for u in group.units for s in sheet.units[u].inlet_streams} - set(group.tears)
-        produced_inside = {s for u in group.units for s in sheet.units[u].outlet_streams}
+        needed = {s for u in group.units for s in ports[u][0]} - set(group.tears)
+        produced_inside = {s for u in group.units for s in ports[u][1]}
         if any(s not in run.flows and s not in produced_inside for s in needed):
             skipped.extend(group.units)
             continue
@@ -668,7 +672,7 @@ def _solve(sheet: Sheet) -> SheetResult:
             run.errors.extend(refused.errors)
             for u in group.units:
                 run.outcomes.pop(u, None)
-                for s in sheet.units[u].outlet_streams:
+                for s in ports[u][1]:
                     run.flows.pop(s, None)
     if skipped:
         run.errors.append(SolveError(
