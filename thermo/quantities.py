@@ -72,10 +72,15 @@ UNIT_SYSTEMS = ("SI", "metric", "US")
 def unit_registry():
     """The one pint registry of statepath, built on first use (it takes a
     noticeable fraction of a second) and shared afterwards."""
+    from importlib import resources
+
     import pint
 
-    registry = pint.UnitRegistry()
-    registry.define("lbmol = 453.59237 * mol = lb_mol")
+    registry = pint.UnitRegistry(None)
+    definitions = resources.files("thermo").joinpath("data/units.txt").read_text("utf-8")
+    for line in definitions.splitlines():
+        if line.strip() and not line.lstrip().startswith("#"):
+            registry.define(line)
     return registry
 
 
