@@ -100,6 +100,8 @@ def test_ln_phi_derivatives_against_central_differences(gas_model):
         assert np.allclose(d.dlnphi_dP, by_p, rtol=1e-6, atol=1e-14)
         cp = (kernel.at(t + dt, p).derivatives(x).enthalpy - kernel.at(t - dt, p).derivatives(x).enthalpy) / (2 * dt)
         assert d.heat_capacity == pytest.approx(cp, rel=1e-7)
+        h_res, s_res, cp_res, _ = state.thermal(x)  # the short path a temperature search uses
+        assert (h_res, s_res, cp_res) == pytest.approx((d.enthalpy, d.entropy, d.heat_capacity), rel=1e-12)
         # Summing partial molar residual enthalpies, -R T^2 d ln(phi)/dT, gives H_res.
         assert -8.314462618 * t * t * float(x @ d.dlnphi_dT) == pytest.approx(d.enthalpy, rel=1e-10)
 

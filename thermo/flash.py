@@ -40,6 +40,7 @@ from .flash_support import (
     NEAR_CRITICAL,
     FlashError,
     describe_state,
+    lazy_description,
     near_critical_pure,
     near_critical_split,
     wilson_k,
@@ -156,8 +157,10 @@ class _Equilibrium:
 
 
 def _equilibrium(kernel: CubicKernel, temperature: float, pressure: float, z: np.ndarray, where: str,
-                 warm: Split | None = None) -> _Equilibrium:
-    """Phase equilibrium of feed z (over the kernel's components, all positive)."""
+                 warm: tuple[np.ndarray, float] | None = None) -> _Equilibrium:
+    """Phase equilibrium of feed z (over the kernel's components, all
+    positive); ``warm`` = (ln K, vapor fraction) from a nearby split, tried
+    first (kept only if it lowers the Gibbs energy below the feed's)."""
     state = kernel.at(temperature, pressure)
     if kernel.size == 1:
         notes = (NEAR_CRITICAL,) if near_critical_pure(float(kernel.tc[0]), float(kernel.pc[0]), temperature, pressure) else ()
@@ -165,7 +168,7 @@ def _equilibrium(kernel: CubicKernel, temperature: float, pressure: float, z: np
     ln_phi_feed, _, _ = state.ln_phi(z)
     if warm is not None:
         try:
-            result = split(state, z, np.exp(warm.ln_k), warm.beta, SWITCH_WARM)
+            result = split(state, z, np.exp(warm[0]), warm[1], SWITCH_WARM)
         except SplitError:
             result = None
         if result is not None and _lowers_gibbs(state, z, ln_phi_feed, result):
@@ -219,9 +222,8 @@ def _both_liquid(state: CubicAtTP, result: Split) -> bool:
 
 
 def _verify_split(state: CubicAtTP, z: np.ndarray, result: Split, where: str) -> None:
-    ln_phi_x, _, _ = state.ln_phi(result.x)
-    ln_phi_y, _, _ = state.ln_phi(result.y)
-    mismatch = float(np.max(np.abs(np.log(result.y) + ln_phi_y - np.log(result.x) - ln_phi_x)))
+    # fugacity_error was evaluated from ln(phi) at the very compositions returned
+    mismatch = result.fugacity_error
     balance = float(np.max(np.abs(result.beta * result.y + (1.0 - result.beta) * result.x - z)))
     if not (mismatch < VERIFY_FUGACITY and balance < VERIFY_BALANCE and 0.0 < result.beta < 1.0):
         raise FlashError(
@@ -300,7 +302,7 @@ def flash_tp(model, temperature: float, pressure: float, x: np.ndarray) -> Strea
     if not _is_cubic(model):
         return single_phase_state(model, temperature, pressure, z)
     kernel = kernel_for(model, active)
-    where = "TP flash of " + describe_state(model, z, T=temperature, P=pressure)
+    where = lazy_description("TP flash of ", model, z, T=temperature, P=pressure)
     eq = _equilibrium(kernel, temperature, pressure, z[list(active)], where)
     _check_third_phase(kernel, eq, where)
     return _stream(model, temperature, pressure, z, active, eq)
@@ -330,7 +332,7 @@ def _flash_p_spec(model, pressure, target, x, guess, kind) -> StreamState:
         guess = 300.0
     z, active = _prepare(model, guess, pressure, x)
     spec = {"P": pressure, kind: target}
-    where = ("PH" if kind == "H" else "PS") + " flash of " + describe_state(model, z, **spec)
+    where = lazy_description(("PH" if kind == "H" else "PS") + " flash of ", model, z, **spec)
     tolerance = ENTHALPY_TOLERANCE if kind == "H" else ENTROPY_TOLERANCE
     if not _is_cubic(model):
         return _single_model_p_spec(model, pressure, target, z, guess, kind, where, tolerance)
@@ -464,25 +466,31 @@ def _verified_target(stream: StreamState, target: float, kind: str, tolerance: f
     return stream
 
 
-def _equilibrium_value(eq: _Equilibrium, kind: str) -> tuple[float, float]:
-    """H or S of an equilibrium (per mole of feed) and its temperature
-    derivative at constant P, phase change included."""
+def _equilibrium_value(eq: _Equilibrium, kind: str):
+    """H or S of an equilibrium (per mole of feed), its temperature derivative
+    at constant P (phase change included), and for a split d ln K/dT and
+    d beta/dT (None for one phase)."""
     state = eq.state
     if eq.split is None:
         value, slope, _ = _phase_value(state, eq.z, eq.root, kind)
-        return value, slope
+        return value, slope, None, None
     result = eq.split
-    dh_dt, _ = temperature_derivative(state, eq.z, result)
+    dh_dt, dv_dt = temperature_derivative(state, eq.z, result)
+    dbeta_dt = float(dv_dt.sum())
+    # v = beta y and l = (1 - beta) x, so d ln y = dv/v - dbeta/beta and d ln x = -dv/l + dbeta/(1 - beta)
+    v = result.beta * result.y
+    liquid = (1.0 - result.beta) * result.x
+    dlnk_dt = dv_dt / v - dbeta_dt / result.beta + dv_dt / liquid - dbeta_dt / (1.0 - result.beta)
     h_ideal = state.ideal_enthalpies()
     if kind == "H":
-        value = result.beta * (float(result.y @ h_ideal) + result.props_y.enthalpy) + (1.0 - result.beta) * (
-            float(result.x @ h_ideal) + result.props_x.enthalpy
+        value = result.beta * (float(result.y @ h_ideal) + result.thermal_y[0]) + (1.0 - result.beta) * (
+            float(result.x @ h_ideal) + result.thermal_x[0]
         )
-        return value, dh_dt
+        return value, dh_dt, dlnk_dt, dbeta_dt
     s_ideal = state.ideal_entropies()
-    s_y = float(result.y @ s_ideal) - R * float(result.y @ np.log(result.y)) + result.props_y.entropy
-    s_x = float(result.x @ s_ideal) - R * float(result.x @ np.log(result.x)) + result.props_x.entropy
-    return result.beta * s_y + (1.0 - result.beta) * s_x, dh_dt / state.temperature
+    s_y = float(result.y @ s_ideal) - R * float(result.y @ np.log(result.y)) + result.thermal_y[1]
+    s_x = float(result.x @ s_ideal) - R * float(result.x @ np.log(result.x)) + result.thermal_x[1]
+    return result.beta * s_y + (1.0 - result.beta) * s_x, dh_dt / state.temperature, dlnk_dt, dbeta_dt
 
 
 def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, kind, where, tolerance):
@@ -506,14 +514,22 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
             return _verified_target(_stream(model, single_t, pressure, z_full, active, eq), target, kind, tolerance, where)
         guess = single_t
         known[single_t] = eq
-    # Second pass: the equilibrium state at each temperature, warm-started from the last split.
-    last_split = [next(iter(known.values())).split if known else None]
+    # Second pass: the equilibrium state at each temperature, started from the
+    # last split carried to the new temperature along its own d ln K / dT.
+    last = [None]  # (T, split, d ln K/dT, d beta/dT) of the latest split
 
     def equilibrium(t):
-        eq = known.pop(t, None) or _equilibrium(kernel, t, pressure, za, where, last_split[0])
+        eq = known.pop(t, None)
+        if eq is None:
+            start = None
+            if last[0] is not None:
+                t_last, previous, dlnk_dt, dbeta_dt = last[0]
+                step = t - t_last
+                start = (previous.ln_k + dlnk_dt * step, min(max(previous.beta + dbeta_dt * step, 1e-6), 1.0 - 1e-6))
+            eq = _equilibrium(kernel, t, pressure, za, where, start)
+        value, slope, dlnk_dt, dbeta_dt = _equilibrium_value(eq, kind)
         if eq.split is not None:
-            last_split[0] = eq.split
-        value, slope = _equilibrium_value(eq, kind)
+            last[0] = (t, eq.split, dlnk_dt, dbeta_dt)
         return value, slope, eq
 
     t, eq = _search_temperature(equilibrium, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what)
@@ -541,7 +557,7 @@ def envelope(model, x: np.ndarray, vapor_fraction: float, temperature: float | N
     value = temperature if temperature is not None else pressure
     z, active = _prepare(model, temperature or 300.0, pressure or 1e5, x)
     spec = {"T": value} if fixed == "T" else {"P": value}
-    where = f"vapor fraction {vapor_fraction:g} point of " + describe_state(model, z, **spec)
+    where = lazy_description(f"vapor fraction {vapor_fraction:g} point of ", model, z, **spec)
     if not _is_cubic(model):
         raise FlashError(
             f"{where}: the {model.name} model describes vapor only (it has no liquid root), "

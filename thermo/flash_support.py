@@ -30,6 +30,35 @@ def describe_composition(names: tuple[str, ...], x: np.ndarray) -> str:
     return ", ".join(parts) if parts else "(empty)"
 
 
+class Described:
+    """A description built only when an error message formats it."""
+
+    __slots__ = ("_build", "_text")
+
+    def __init__(self, build):
+        self._build = build
+        self._text = None
+
+    def __str__(self) -> str:
+        if self._text is None:
+            self._text = self._build()
+        return self._text
+
+    def __format__(self, spec: str) -> str:
+        return format(str(self), spec)
+
+    def __add__(self, other: str) -> str:
+        return str(self) + other
+
+    def __radd__(self, other: str) -> str:
+        return other + str(self)
+
+
+def lazy_description(prefix: str, model, x: np.ndarray, **spec: float) -> Described:
+    """``prefix + describe_state(model, x, **spec)``, built on first use."""
+    return Described(lambda: prefix + describe_state(model, x, **spec))
+
+
 def describe_state(model, x: np.ndarray, **spec: float) -> str:
     """A one-line description of a flash request for error messages, e.g.
     'peng-robinson at T = 250 K, P = 5e+06 Pa, composition methane 0.85, ...'."""

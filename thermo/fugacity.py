@@ -299,10 +299,15 @@ class CubicAtTP:
         big_a = float(x @ self.big_a @ x)
         big_b = float(self.big_b @ x)
         z, log_ratio, liquid = self._choose(big_a, big_b, root)
-        a_t, a_tt = self._attraction_t()
-        d = float(x @ self.a @ x)
-        d_t = float(x @ a_t @ x)
-        d_tt = float(x @ a_tt @ x)
+        # The bilinear forms x.a.x, x.a_T.x and x.a_TT.x from sqrt(a_i) = q_i and
+        # its derivatives, without building the derivative matrices.
+        dq = k.q1 * (-0.5 / self.sqrt_t)
+        d2q = k.q1 * (0.25 / (self.sqrt_t * t))
+        u, v_t = x * self.q, x * dq
+        mu = k.one_minus_k @ u
+        d = float(u @ mu)
+        d_t = 2.0 * float(v_t @ mu)
+        d_tt = 2.0 * float((x * d2q) @ mu) + 2.0 * float(v_t @ (k.one_minus_k @ v_t))
         b = float(k.b @ x)
         rt = R * t
         v = z * rt / p

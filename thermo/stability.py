@@ -26,7 +26,7 @@ import numpy as np
 from .fugacity import CubicAtTP
 
 UNSTABLE_TM = -1e-9  # tm below this proves instability beyond rounding
-TRIVIAL_DISTANCE = 1e-8  # sum (ln W - ln z)^2 below this: the trial has fallen onto the feed
+TRIVIAL_DISTANCE = 1e-4  # sum (ln W - ln z)^2 below this (with tm >= 0): the trial is falling onto the feed
 CONVERGED_STEP = 1e-10  # max |delta ln W| of a converged stationary point
 SUBSTITUTION_STEPS = 40  # before the Newton finish
 NEWTON_STEPS = 30
@@ -87,7 +87,7 @@ def _trial(state: CubicAtTP, z: np.ndarray, ln_z: np.ndarray, d: np.ndarray, ln_
             return TrialResult(kind, w_moles / total, tm, "unstable", iterations)
         delta = ln_w_new - ln_w
         distance = float((ln_w_new - ln_z) @ (ln_w_new - ln_z))
-        if distance < TRIVIAL_DISTANCE:
+        if distance < TRIVIAL_DISTANCE and tm >= 0.0:
             return TrialResult(kind, z, 0.0, "trivial", iterations)
         if float(np.max(np.abs(delta))) < CONVERGED_STEP:
             return TrialResult(kind, w_moles / total, tm, "stationary", iterations)
@@ -117,7 +117,7 @@ def _newton_trial(state, z, ln_z, d, ln_w, kind, done):
         if tm < UNSTABLE_TM:
             return TrialResult(kind, w_moles / total, tm, "unstable", done + step_count)
         distance = float((ln_w - ln_z) @ (ln_w - ln_z))
-        if distance < TRIVIAL_DISTANCE:
+        if distance < TRIVIAL_DISTANCE and tm >= 0.0:
             return TrialResult(kind, z, 0.0, "trivial", done + step_count)
         if float(np.max(np.abs(residual))) < CONVERGED_STEP:
             return TrialResult(kind, w_moles / total, tm, "stationary", done + step_count)

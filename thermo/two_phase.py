@@ -27,6 +27,7 @@ from .rachford_rice import RachfordRiceError, rachford_rice
 SWITCH_TO_NEWTON = 1e-5  # max |ln f_y - ln f_x| at which substitution hands over
 SWITCH_WARM = 1e-2  # the same for a start from a nearby converged split
 CONVERGED = 1e-11  # max |ln f_y - ln f_x| of a converged split
+QUADRATIC = 1e-6  # below this mismatch the next Newton step is taken as the last
 SUBSTITUTION_STEPS = 200
 NEWTON_STEPS = 30
 ACCELERATE_EVERY = 5
@@ -41,7 +42,10 @@ class Split:
     ``beta`` is the mole fraction of the y phase (the one richer in light
     components); ``x`` and ``y`` are mole fractions over the active
     components; ``props_x`` and ``props_y`` the phases' derivatives at the
-    solution; ``fugacity_error`` is max |ln f_i^y - ln f_i^x|.
+    last Newton iterate (within one quadratic step of the solution: good for
+    derivatives); ``thermal_x`` and ``thermal_y`` hold (H_res J/mol,
+    S_res J/(mol K), Cp_res J/(mol K)) at the solution itself;
+    ``fugacity_error`` is max |ln f_i^y - ln f_i^x| there.
     """
 
     beta: float
@@ -50,6 +54,8 @@ class Split:
     ln_k: np.ndarray
     props_x: PhaseDerivatives
     props_y: PhaseDerivatives
+    thermal_x: tuple[float, float, float]
+    thermal_y: tuple[float, float, float]
     fugacity_error: float
     iterations: int
 
@@ -77,6 +83,14 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
     falls below ``switch`` (larger for a start already near the answer)."""
     ln_k = np.log(k_start)
     beta = beta_guess
+    if switch >= SWITCH_WARM:
+        # A start from a converged split at a nearby state: Newton at once.
+        try:
+            result = _newton(state, z, np.clip(ln_k, -LN_K_LIMIT, LN_K_LIMIT), beta, 0)
+        except SplitError:
+            result = None
+        if result is not None:
+            return result
     previous_delta = None
     saved = None
     previous_gibbs = math.inf
@@ -155,7 +169,10 @@ def _newton(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float, done
             if float(np.max(np.abs(ln_k))) < TRIVIAL_LN_K:
                 return None
             x, y = x / x.sum(), y / y.sum()
-            return Split(beta, x, y, np.log(y) - np.log(x), props_x, props_y, error, done + step_count)
+            return Split(beta, x, y, np.log(y) - np.log(x), props_x, props_y,
+                         (props_x.enthalpy, props_x.entropy, props_x.heat_capacity),
+                         (props_y.enthalpy, props_y.entropy, props_y.heat_capacity),
+                         error, done + step_count)
         if error > previous_error:
             # Newton lost ground: one substitution step from here instead.
             ln_k = props_x.ln_phi - props_y.ln_phi
@@ -176,8 +193,36 @@ def _newton(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float, done
         largest = float(np.max(np.abs(step)))
         if largest > 2.0:
             step *= 2.0 / largest
+        if error < QUADRATIC:
+            # One more step lands within rounding: check it with ln(phi) alone
+            # rather than a fresh set of derivatives.
+            final = _checked_step(state, z, np.clip(ln_k + step, -LN_K_LIMIT, LN_K_LIMIT), beta, props_x, props_y,
+                                  done + step_count)
+            if final is not None:
+                return final
         ln_k = ln_k + step
     raise SplitError(f"Newton stage did not reach equal fugacities in {NEWTON_STEPS} steps")
+
+
+def _checked_step(state, z, ln_k, beta, props_x, props_y, iterations) -> Split | None:
+    """The split at ln K if its fugacities agree to CONVERGED, else None."""
+    k = np.exp(ln_k)
+    try:
+        beta = rachford_rice(z, k, beta)
+    except RachfordRiceError:
+        return None
+    if not 0.0 < beta < 1.0:
+        return None
+    x, y = _compositions(z, k, beta)
+    ln_phi_x, _, _ = state.ln_phi(x)
+    ln_phi_y, _, _ = state.ln_phi(y)
+    ln_x, ln_y = np.log(x), np.log(y)
+    error = float(np.max(np.abs(ln_y + ln_phi_y - ln_x - ln_phi_x)))
+    if not error < CONVERGED or float(np.max(np.abs(ln_y - ln_x))) < TRIVIAL_LN_K:
+        return None
+    thermal_x = state.thermal(x)[:3]
+    thermal_y = state.thermal(y)[:3]
+    return Split(beta, x, y, ln_y - ln_x, props_x, props_y, thermal_x, thermal_y, error, iterations)
 
 
 def temperature_derivative(state: CubicAtTP, z: np.ndarray, result: Split) -> tuple[float, np.ndarray]:
@@ -197,6 +242,6 @@ def temperature_derivative(state: CubicAtTP, z: np.ndarray, result: Split) -> tu
     rt2 = R * t * t
     partial_y = h_ideal - rt2 * py.dlnphi_dT
     partial_x = h_ideal - rt2 * px.dlnphi_dT
-    cp_y = float(y @ cp_ideal) + py.heat_capacity
-    cp_x = float(x @ cp_ideal) + px.heat_capacity
+    cp_y = float(y @ cp_ideal) + result.thermal_y[2]
+    cp_x = float(x @ cp_ideal) + result.thermal_x[2]
     return beta * cp_y + (1.0 - beta) * cp_x + float((partial_y - partial_x) @ dv_dt), dv_dt
