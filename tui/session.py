@@ -253,6 +253,13 @@ class Session:
     # -------------------------------------------------------------- editing
 
     def _fresh_document(self):
+        # thermo.sheetfile's edits return a new document and never change the
+        # one given, so the loaded document is handed out as it is (saving a
+        # parse per edit); edits here must keep to that rule. With another
+        # loader (tests), a fresh parse.
+        document = getattr(self.loaded, "document", None)
+        if document is not None and self._loader is _default_loader:
+            return document
         import tomlkit
 
         return tomlkit.parse(self.text)
