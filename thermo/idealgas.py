@@ -10,7 +10,6 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy.special import xlogy
 
 from .components import P_REF, R, T_REF
 from .mixture import Mixture
@@ -39,7 +38,8 @@ def mixing_entropy(x: np.ndarray) -> float:
     """Ideal entropy of mixing, -R sum(x ln x), J/(mol K); zero fractions add nothing."""
     if len(x) == 1:
         return 0.0
-    return float(-R * xlogy(x, x).sum())
+    positive = x[x > 0.0]
+    return float(-R * (positive @ np.log(positive)))
 
 
 def enthalpy(mixture: Mixture, temperature: float, x: np.ndarray) -> float:
