@@ -14,6 +14,7 @@ import math
 import subprocess
 from dataclasses import dataclass, fields
 from pathlib import Path
+from typing import Callable, Mapping
 
 from thermo.quantities import DISPLAY_KINDS, display_units, format_number, format_quantity, to_display
 from thermo.results import SheetResult
@@ -197,14 +198,9 @@ def diff_inputs(old: Sheet, new: Sheet) -> list[Change]:
         if not _same(a, b):
             changes.append(_input(CHANGED, f"limits.{key}", a, b, kind))
     changes += _diff_components(old, new)
-    for pair in _ordered_union(old.interaction, new.interaction):
-        what = f'interaction."{pair[0]}/{pair[1]}"'
-        a, b = old.interaction.get(pair), new.interaction.get(pair)
-        if a is None:
-            changes.append(_input(ADDED, what, new=b))
-        elif b is None:
-            changes.append(_input(REMOVED, what, old=a))
-        elif not _same(a, b):
+    for _, what, a, b in _matched(old.interaction, new.interaction, lambda pair: f'interaction."{pair[0]}/{pair[1]}"',
+                               changes, shown=lambda value: value):
+        if not _same(a, b):
             changes.append(_input(CHANGED, what, a, b))
     changes += _diff_feeds(old, new)
     changes += _diff_units(old, new)
@@ -217,17 +213,28 @@ def _ordered_union(first, second) -> list:
     return keys
 
 
-def _diff_components(old: Sheet, new: Sheet) -> list[Change]:
-    changes = []
-    for name in _ordered_union(old.components, new.components):
-        what = f"components.{name}"
-        a, b = old.components.get(name), new.components.get(name)
+def _matched(old: Mapping, new: Mapping, label: Callable[[object], str], changes: list[Change], *,
+             shown: Callable[[object], object] = lambda item: None,
+             kind: Callable[[object], str | None] = lambda key: None) -> list[tuple[object, str, object, object]]:
+    """Append to ``changes`` the entries only one of ``old``/``new`` has
+    (added or removed, with ``shown(entry)`` as the value), and return
+    (key, label, old entry, new entry) for those both have, in file order."""
+    both = []
+    for key in _ordered_union(old, new):
+        what = label(key)
+        a, b = old.get(key), new.get(key)
         if a is None:
-            changes.append(_input(ADDED, what))
-            continue
-        if b is None:
-            changes.append(_input(REMOVED, what))
-            continue
+            changes.append(_input(ADDED, what, new=shown(b), kind=kind(key)))
+        elif b is None:
+            changes.append(_input(REMOVED, what, old=shown(a), kind=kind(key)))
+        else:
+            both.append((key, what, a, b))
+    return both
+
+
+def _diff_components(old: Sheet, new: Sheet) -> list[Change]:
+    changes: list[Change] = []
+    for _, what, a, b in _matched(old.components, new.components, lambda name: f"components.{name}", changes):
         for f in fields(a):
             if f.name == "name":
                 continue
@@ -238,16 +245,8 @@ def _diff_components(old: Sheet, new: Sheet) -> list[Change]:
 
 
 def _diff_feeds(old: Sheet, new: Sheet) -> list[Change]:
-    changes = []
-    for name in _ordered_union(old.streams, new.streams):
-        what = f"streams.{name}"
-        a, b = old.streams.get(name), new.streams.get(name)
-        if a is None:
-            changes.append(_input(ADDED, what))
-            continue
-        if b is None:
-            changes.append(_input(REMOVED, what))
-            continue
+    changes: list[Change] = []
+    for _, what, a, b in _matched(old.streams, new.streams, lambda name: f"streams.{name}", changes):
         for attribute, key, kind in _FEED_FIELDS:
             va, vb = getattr(a, attribute), getattr(b, attribute)
             if not _same(va, vb):
@@ -259,33 +258,25 @@ def _diff_feeds(old: Sheet, new: Sheet) -> list[Change]:
     return changes
 
 
+def _spec_kind(key: str) -> str | None:
+    kind = SPEC_KEY_KINDS.get(key)
+    return kind if kind in DISPLAY_KINDS else None  # efficiencies, ratios, fractions: plain numbers
+
+
 def _diff_units(old: Sheet, new: Sheet) -> list[Change]:
-    changes = []
-    for name in _ordered_union(old.units, new.units):
-        what = f"units.{name}"
-        a, b = old.units.get(name), new.units.get(name)
-        if a is None:
-            changes.append(_input(ADDED, what, new=b.type))
-            continue
-        if b is None:
-            changes.append(_input(REMOVED, what, old=a.type))
-            continue
+    changes: list[Change] = []
+    for _, what, a, b in _matched(old.units, new.units, lambda name: f"units.{name}", changes,
+                               shown=lambda unit: unit.type):
         if a.type != b.type:
             changes.append(_input(CHANGED, f"{what}.type", a.type, b.type))
         for role in _ordered_union(a.connections, b.connections):
             va, vb = a.connections.get(role), b.connections.get(role)
             if va != vb:
                 changes.append(_input(CHANGED, f"{what}.{role}", va, vb))
-        for key in _ordered_union(a.params, b.params):
-            kind = SPEC_KEY_KINDS.get(key)
-            kind = kind if kind in DISPLAY_KINDS else None  # efficiencies, ratios, fractions: plain numbers
-            va, vb = a.params.get(key), b.params.get(key)
-            if va is None:
-                changes.append(_input(ADDED, f"{what}.{key}", new=vb, kind=kind))
-            elif vb is None:
-                changes.append(_input(REMOVED, f"{what}.{key}", old=va, kind=kind))
-            elif not _same(va, vb):
-                changes.append(_input(CHANGED, f"{what}.{key}", va, vb, kind))
+        for key, spec_what, va, vb in _matched(a.params, b.params, lambda key: f"{what}.{key}", changes,
+                                               shown=lambda value: value, kind=_spec_kind):
+            if not _same(va, vb):
+                changes.append(_input(CHANGED, spec_what, va, vb, _spec_kind(key)))
     return changes
 
 
