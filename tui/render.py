@@ -166,55 +166,71 @@ def _align_headers(table: Table) -> Table:
     return table
 
 
+# The columns of the stream and unit tables: (label, display kind or None),
+# shared by the terminal and the Markdown renderings.
+STREAM_COLUMNS = (
+    ("stream", None), ("T", "temperature"), ("P", "pressure"), ("flow", "molar_flow"),
+    ("phase\nvap. frac", None), ("H", "molar_energy"), ("S", "molar_entropy"),
+)
+UNIT_COLUMNS = (
+    ("unit", None), ("type", None), ("duty", "power"), ("power", "power"),
+    ("S gen", "entropy_rate"), ("lost work", "power"), ("flags", None),
+)
+
+
+def _stream_cells(name: str, stream, system: str) -> list[str]:
+    state = stream.state
+    return [
+        name,
+        _number(state.temperature, "temperature", system),
+        _number(state.pressure, "pressure", system),
+        _number(stream.molar_flow, "molar_flow", system),
+        _vapor_phase(stream),
+        _number(state.enthalpy, "molar_energy", system),
+        _number(state.entropy, "molar_entropy", system),
+    ]
+
+
+def _unit_cells(name: str, unit: UnitResult, system: str, ascii_only: bool) -> list[str]:
+    return [
+        name,
+        unit.type,
+        _number(unit.duty_W, "power", system),
+        _number(unit.power_W, "power", system),
+        _number(unit.entropy_generation_W_K, "entropy_rate", system),
+        _number(unit.lost_work_W, "power", system),
+        _unit_flag_summary(unit, ascii_only),
+    ]
+
+
+def _rich_table(title: str, columns, system: str) -> Table:
+    """Numbers right-aligned under their unit; names fold only when the
+    terminal is too narrow for them."""
+    table = Table(title=title, **_TABLE_STYLE)
+    for label, kind in columns:
+        if kind is None:
+            table.add_column(label, overflow="fold")
+        else:
+            table.add_column(_header(label, kind, system), justify="right")
+    return _align_headers(table)
+
+
 def stream_table(result: SheetResult, system: str) -> Table:
     """Streams: T, P, molar flow, vapor fraction and phase, molar H and S."""
-    table = Table(title="Streams", **_TABLE_STYLE)
-    table.add_column("stream", overflow="fold")
-    for label, kind in (
-        ("T", "temperature"),
-        ("P", "pressure"),
-        ("flow", "molar_flow"),
-    ):
-        table.add_column(_header(label, kind, system), justify="right")
-    table.add_column("phase\nvap. frac", min_width=len("supercritical"))
-    table.add_column(_header("H", "molar_energy", system), justify="right")
-    table.add_column(_header("S", "molar_entropy", system), justify="right")
+    table = _rich_table("Streams", STREAM_COLUMNS, system)
+    table.columns[4].min_width = len("supercritical")
     for name, stream in result.streams.items():
-        state = stream.state
-        table.add_row(
-            name,
-            _number(state.temperature, "temperature", system),
-            _number(state.pressure, "pressure", system),
-            _number(stream.molar_flow, "molar_flow", system),
-            _vapor_phase(stream),
-            _number(state.enthalpy, "molar_energy", system),
-            _number(state.entropy, "molar_entropy", system),
-        )
-    return _align_headers(table)
+        table.add_row(*_stream_cells(name, stream, system))
+    return table
 
 
 def unit_table(result: SheetResult, system: str, *, ascii_only: bool = False) -> Table:
     """Units: type, duty or power, entropy generation, lost work and flags."""
-    table = Table(title="Units", **_TABLE_STYLE)
-    table.add_column("unit", overflow="fold")
-    table.add_column("type")
-    table.add_column(_header("duty", "power", system), justify="right")
-    table.add_column(_header("power", "power", system), justify="right")
-    table.add_column(_header("S gen", "entropy_rate", system), justify="right")
-    table.add_column(_header("lost work", "power", system), justify="right")
-    table.add_column("flags", overflow="fold")
+    table = _rich_table("Units", UNIT_COLUMNS, system)
     for name, unit in result.units.items():
-        summary = _unit_flag_summary(unit, ascii_only)
-        table.add_row(
-            name,
-            unit.type,
-            _number(unit.duty_W, "power", system),
-            _number(unit.power_W, "power", system),
-            _number(unit.entropy_generation_W_K, "entropy_rate", system),
-            _number(unit.lost_work_W, "power", system),
-            Text(summary, style=_summary_style(unit)),
-        )
-    return _align_headers(table)
+        *cells, summary = _unit_cells(name, unit, system, ascii_only)
+        table.add_row(*cells, Text(summary, style=_summary_style(unit)))
+    return table
 
 
 def _summary_style(unit: UnitResult) -> str:
@@ -402,66 +418,21 @@ def render_markdown(result: SheetResult, system: str, *, title: str | None = Non
     """GitHub-flavoured Markdown: a heading, the status, pipe tables of
     streams and units, and a list of violations and cautions; for pasting
     into a review or a report."""
-    unit_of = lambda kind: display_units(kind, system)  # noqa: E731
     lines = [f"## {_md_cell(title)}" if title else "## Flowsheet result", ""]
     lines.append(status_line(result).plain)
     lines.append("")
     lines.append(f"Units: {_system_caption(system)}.")
     lines.append("")
-    if result.streams:
-        lines.append("### Streams")
-        lines.append("")
-        rows = [
-            [
-                name,
-                _number(s.state.temperature, "temperature", system),
-                _number(s.state.pressure, "pressure", system),
-                _number(s.molar_flow, "molar_flow", system),
-                format_number(s.state.vapor_fraction, significant=4, max_decimals=4),
-                s.state.phase,
-                _number(s.state.enthalpy, "molar_energy", system),
-                _number(s.state.entropy, "molar_entropy", system),
-            ]
-            for name, s in result.streams.items()
-        ]
-        header = [
-            "stream",
-            f"T ({unit_of('temperature')})",
-            f"P ({unit_of('pressure')})",
-            f"flow ({unit_of('molar_flow')})",
-            "vapor fraction",
-            "phase",
-            f"H ({unit_of('molar_energy')})",
-            f"S ({unit_of('molar_entropy')})",
-        ]
-        lines.extend(_md_table(header, rows, right={1, 2, 3, 4, 6, 7}))
-        lines.append("")
-    if result.units:
-        lines.append("### Units")
-        lines.append("")
-        rows = [
-            [
-                name,
-                u.type,
-                _number(u.duty_W, "power", system),
-                _number(u.power_W, "power", system),
-                _number(u.entropy_generation_W_K, "entropy_rate", system),
-                _number(u.lost_work_W, "power", system),
-                _unit_flag_summary(u, ascii_only=False),
-            ]
-            for name, u in result.units.items()
-        ]
-        header = [
-            "unit",
-            "type",
-            f"duty ({unit_of('power')})",
-            f"power ({unit_of('power')})",
-            f"S gen ({unit_of('entropy_rate')})",
-            f"lost work ({unit_of('power')})",
-            "flags",
-        ]
-        lines.extend(_md_table(header, rows, right={2, 3, 4, 5}))
-        lines.append("")
+    for heading, columns, rows in (
+        ("Streams", STREAM_COLUMNS, [_stream_cells(n, s, system) for n, s in result.streams.items()]),
+        ("Units", UNIT_COLUMNS, [_unit_cells(n, u, system, False) for n, u in result.units.items()]),
+    ):
+        if not rows:
+            continue
+        header = [label.replace("\n", ", ") + (f" ({display_units(kind, system)})" if kind else "")
+                  for label, kind in columns]
+        right = {i for i, (_, kind) in enumerate(columns) if kind is not None}
+        lines += [f"### {heading}", "", *_md_table(header, rows, right), ""]
     flags = collect_flags(result)
     lines.append("### Violations and cautions")
     lines.append("")
