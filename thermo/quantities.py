@@ -265,7 +265,7 @@ def _linear_map(registry, expression: str) -> tuple[float, float]:
     the scale of offset units (degC, degF) comes from their delta unit, which
     is exact, rather than from a difference of two conversions."""
     offset = registry.Quantity(0.0, expression).to_base_units().magnitude
-    delta = {"degC": "delta_degC", "degF": "delta_degF"}.get(expression, expression)
+    delta = {"degC": "delta_degree_Celsius", "degF": "delta_degree_Fahrenheit"}.get(expression, expression)
     scale = registry.Quantity(1.0, delta).to_base_units().magnitude
     return scale, offset
 

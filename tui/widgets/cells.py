@@ -80,13 +80,42 @@ def entered_quantities(document: Mapping) -> dict[str, set[str]]:
 
 
 def flags_by_place(result) -> dict[str, list]:
-    """Flags of ``result`` keyed by the unit or stream they concern."""
+    """Flags of ``result`` keyed by the unit that lists them and by the stream
+    they concern (a caution on a unit's outlet shows on both); sheet-wide
+    cautions also under "flowsheet"."""
     places: dict[str, list] = {}
     if result is None:
         return places
+
+    def put(key: str, flag) -> None:
+        bucket = places.setdefault(key, [])
+        if flag not in bucket:
+            bucket.append(flag)
+
+    def stream_of(where: str) -> str | None:
+        return where.split(".", 1)[1] if where.startswith("streams.") else None
+
     for flag in collect_flags(result):
-        places.setdefault(flag.where, []).append(flag)
+        where = flag.where
+        if where.startswith("units."):
+            put(where.split(".", 1)[1], flag)
+        elif stream_of(where):
+            put(stream_of(where), flag)
+        else:
+            put(where, flag)
+    for name, unit in result.units.items():
+        for flag in collect_flags_of_unit(unit):
+            put(name, flag)
     return places
+
+
+def collect_flags_of_unit(unit) -> list:
+    """The violations and cautions a unit lists, as render.Flag items."""
+    from ..render import Flag
+
+    flags = [Flag("violation", v.code, v.message, v.where or f"units.{unit.name}") for v in unit.violations]
+    flags += [Flag(c.severity, c.code, c.message, c.where or f"units.{unit.name}") for c in unit.cautions]
+    return sorted(flags, key=lambda flag: flag.rank)
 
 
 def flag_summary(flags: list, *, short: bool = False) -> Text:

@@ -173,8 +173,8 @@ class DetailPane(Vertical):
 
     def _flags(self, flags: list) -> list:
         if not flags:
-            return [Text("\u2714 ok: no cautions", style="green")]
-        return [Text("cautions", style="bold underline")] + [flag_line(flag) for flag in flags]
+            return [Text("\u2714 ok: no violations or cautions", style="green")]
+        return [Text("violations and cautions", style="bold underline")] + [flag_line(flag) for flag in flags]
 
     def _steps_table(self, heading: str, h_unit: str, s_unit: str, rows: list[tuple[str, str, str]]) -> Table:
         table = Table(title=heading, title_justify="left", box=None, pad_edge=False, show_edge=False,
