@@ -8,7 +8,7 @@ from __future__ import annotations
 import pytest
 
 from thermo import flash
-from thermo.cautions import DEFER, RULES, VIOLATION
+from thermo.cautions import DEFER, RULES, SITE_LIMIT_CAUTIONS, VIOLATION
 from thermo.flowsheet import build_mixture, solve_sheet
 from thermo.models import make_model
 from thermo.spec import FeedStream, Limits, Sheet, UnitSpec
@@ -40,7 +40,12 @@ def violation_codes(result):
 
 
 def check_caution(result, code, where="unit", number_shown=None):
-    assert result.status == "ok", result.errors
+    if code in SITE_LIMIT_CAUTIONS and where == "unit":
+        # crossing a [limits] value at a unit's outlet is a design-limit violation too
+        assert result.status == "violations", result.errors
+        assert "site-limit-exceeded" in violation_codes(result)
+    else:
+        assert result.status == "ok", result.errors
     found = [c for c in (result.cautions if where == "sheet" else result.units["u"].cautions) if c.code == code]
     assert found, caution_codes(result, where)
     caution = found[0]
@@ -60,6 +65,21 @@ def check_violation(result, code):
 
 
 # ------------------------------------------------------------------ cautions
+
+
+def test_a_site_limit_crossed_at_a_unit_outlet_is_a_violation_too():
+    limits = Limits(min_temperature_K=263.15)
+    result = one_unit("valve", {"outlet_pressure": 20e5}, temperature=283.15, pressure=70e5, limits=limits)
+    violation = check_violation(result, "site-limit-exceeded")
+    assert "cold-metal" in violation.message and "streams.out" in violation.message
+    assert [c.code for c in result.units["u"].cautions].count("cold-metal") == 1
+
+
+def test_a_feed_past_a_site_limit_is_a_caution_only():
+    limits = Limits(max_pressure_Pa=50e5)
+    result = one_unit("valve", {"outlet_pressure": 20e5}, temperature=300.0, pressure=70e5, limits=limits)
+    assert result.status == "ok"
+    assert "over-pressure" in caution_codes(result, "sheet")
 
 
 def test_cold_metal_after_a_throttle():

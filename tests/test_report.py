@@ -67,7 +67,8 @@ def output():
 
 def test_top_level_keys_of_the_contract(output):
     assert {"status", "model", "streams", "units", "cautions", "errors"} <= set(output)
-    assert output["status"] == "ok"
+    # the choke outlet crosses the sheet's min_temperature: a design-limit violation
+    assert output["status"] == "violations"
     assert output["model"] == "peng-robinson"
     assert output["errors"] == []
 
@@ -130,7 +131,10 @@ def test_stream_cautions_carry_where_and_the_caution_text_defers(output):
     assert cold["where"] == "streams.lp-gas"
     assert "15.0 degC" in cold["message"]
     assert cold["message"].endswith("Defer to local codes and licensed engineering practice.")
-    assert output["status"] == "ok"  # a caution never changes the status
+    # a caution alone never changes the status; crossing a [limits] value at a
+    # unit's outlet is also a design-limit violation, listed under the unit
+    codes = [v["code"] for v in output["units"]["choke"]["violations"]]
+    assert codes == ["site-limit-exceeded"] and output["status"] == "violations"
 
 
 def test_recycle_and_order_extras(output):

@@ -133,10 +133,35 @@ RULES: dict[str, Rule] = _rules(
          "a compressor whose outlet pressure is below its inlet's", "a compressor only raises pressure"),
     Rule("pump-lowers-pressure", VIOLATION, None, "a pump whose outlet pressure is below its inlet's",
          "a pump only raises pressure"),
+    Rule("site-limit-exceeded", VIOLATION, None,
+         "a stream a unit writes crosses a value of the site's [limits] (the cautions cold-metal, hot-metal, "
+         "over-pressure and hot-discharge)",
+         "the flowsheet contract: a solved sheet with design-limit violations exits 1, so a check in CI fails"),
     Rule("mixer-raises-pressure", VIOLATION, None,
          "a mixer whose outlet pressure is above its lowest inlet pressure",
          "an adiabatic mixer without a machine cannot lift a stream's pressure"),
 )
+
+
+#: Cautions that hold a state against a value of the site's [limits]: crossing
+#: one at a unit's outlet is a design-limit violation as well, listed under
+#: the unit as "site-limit-exceeded", so that ``statepath check`` fails on it.
+SITE_LIMIT_CAUTIONS = ("cold-metal", "hot-metal", "over-pressure", "hot-discharge")
+
+
+def limit_violations(cautions: Sequence[Caution], *, where: str) -> list[Violation]:
+    """A "site-limit-exceeded" violation for each caution of ``cautions``
+    that crosses a [limits] value; ``where`` names the unit."""
+    found = []
+    for caution in cautions:
+        if caution.code in SITE_LIMIT_CAUTIONS:
+            what = caution.message.removesuffix(DEFER).strip()
+            found.append(Violation(
+                "site-limit-exceeded",
+                f"{caution.where or where} crosses a design limit ({caution.code}): {what} "
+                "Change the specification, or the [limits] value if the equipment is rated for it.",
+                where))
+    return found
 
 
 def _temperature(kelvin: float) -> str:

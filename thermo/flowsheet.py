@@ -570,6 +570,7 @@ def _unit_result(run: _Run, name: str) -> UnitResult:
     for stream, flow in zip(outlet_names, result.outlets):
         found.extend(rules.stream_cautions(flow.state, where=f"streams.{stream}", model=run.model, limits=sheet.limits))
     violations = rules.unit_violations(unit.type, inlets, result, where=where)
+    violations.extend(rules.limit_violations(found, where=where))
     per_stream = {outlet_names[o]: change for o, change in result.paths}
     details = dict(result.details)
     details["energy_balance_relative_residual"] = balance.relative_residual

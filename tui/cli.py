@@ -396,10 +396,10 @@ def cmd_open(args, stdout: TextIO, stderr: TextIO) -> int:
 
 _MAIN_EPILOG = """\
 exit codes (solve, check):
-  0  solved; cautions may be present (a design limit passed is a
-     "danger" caution)
+  0  solved; cautions may be present
   1  solved with violations: a unit breaks the second law or its own
-     nature (check --strict: cautions count too)
+     nature, or a stream it writes crosses a [limits] value (a design
+     limit); check --strict: cautions count too
   2  a file could not be read or solved (the reason is on stderr)
 
 examples:
@@ -427,9 +427,10 @@ output:
   --markdown  pipe tables for a review comment or a report
 
 exit codes:
-  0  solved; cautions may be present (a stream past a [limits] value is a
-     "danger" caution)
-  1  solved with violations (a unit breaks the second law or its nature)
+  0  solved; cautions may be present
+  1  solved with violations: a unit breaks the second law or its nature,
+     or a stream it writes crosses a [limits] value (a design limit; a
+     feed past one is a caution only)
   2  the file could not be read or solved; messages on stderr read
      "statepath: FILE:LINE: key.path: what. Fix: how."
 
