@@ -57,6 +57,10 @@ from .spec import Sheet, UnitSpec
 MAX_RECYCLE_ITERATIONS = 100
 RECYCLE_TOLERANCE = 1e-9
 WEGSTEIN_BOUNDS = (-5.0, 0.0)
+#: Component flows and the enthalpy flow obey linear balances, so their Wegstein factor may go
+#: much further: a loop that bleeds a fraction f of its flow has q = -(1 - f)/f,
+#: which the state bounds would cap to a crawl of many passes.
+WEGSTEIN_FLOW_BOUNDS = (-200.0, 0.0)
 DIRECT_SUBSTITUTION_PASSES = 2
 
 #: What solves each kind of unit: (spec, inlet flows, model, ambient K) -> UnitOutcome.
@@ -465,22 +469,26 @@ def _spec_key_path(unit: UnitSpec, key: str) -> tuple:
 
 
 def _pack(flow: Flow) -> np.ndarray:
-    return np.concatenate(([flow.state.enthalpy, flow.state.pressure], flow.component_flows()))
+    # Enthalpy flow (W) and component flows (mol/s) rather than molar values:
+    # a loop's energy and mass balances are linear in them, which is what
+    # lets Wegstein's secant step take a slowly bleeding loop home at once.
+    return np.concatenate(([flow.state.enthalpy * flow.molar_flow, flow.state.pressure], flow.component_flows()))
 
 
 def _scales(flow: Flow) -> np.ndarray:
     state = flow.state
     size = len(state.composition)
     return np.concatenate((
-        [max(abs(state.enthalpy), R * state.temperature), state.pressure],
+        [max(abs(state.enthalpy), R * state.temperature) * max(flow.molar_flow, 1e-12), state.pressure],
         np.full(size, max(flow.molar_flow, 1e-12)),
     ))
 
 
 def _unpack(run: _Run, values: np.ndarray, like: Flow) -> Flow:
-    enthalpy, pressure = float(values[0]), float(values[1])
     moles = np.clip(values[2:], 0.0, None)
     total = float(moles.sum())
+    enthalpy = float(values[0]) / total if total > 0.0 else like.state.enthalpy
+    pressure = float(values[1])
     x = moles / total if total > 0.0 else like.state.composition
     pressure = pressure if pressure > 0.0 else like.state.pressure
     state = flash.flash_ph(run.model, pressure, enthalpy, x, like.state.temperature)
@@ -512,6 +520,10 @@ def _converge(run: _Run, group: Group) -> None:
     for s, flow in guesses.items():
         run.flows[s] = flow
     x = np.concatenate([_pack(run.flows[s]) for s in group.tears])
+    lower_bounds = np.concatenate([
+        [WEGSTEIN_FLOW_BOUNDS[0], WEGSTEIN_BOUNDS[0]] + [WEGSTEIN_FLOW_BOUNDS[0]] * len(run.flows[s].state.composition)
+        for s in group.tears
+    ])
     x_old = g_old = None
     mismatch = math.inf
     for iteration in range(1, MAX_RECYCLE_ITERATIONS + 1):
@@ -532,7 +544,7 @@ def _converge(run: _Run, group: Group) -> None:
             with np.errstate(divide="ignore", invalid="ignore"):
                 slope = np.where(np.abs(dx) > 1e-14 * scale, dg / dx, 0.0)
                 q = np.where(slope != 1.0, slope / (slope - 1.0), WEGSTEIN_BOUNDS[0])
-            q = np.clip(np.nan_to_num(q, nan=0.0), *WEGSTEIN_BOUNDS)
+            q = np.clip(np.nan_to_num(q, nan=0.0), lower_bounds, WEGSTEIN_BOUNDS[1])
             x_new = q * x + (1.0 - q) * g
         x_old, g_old = x, g
         x = np.array(x_new, dtype=float)
