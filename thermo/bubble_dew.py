@@ -25,7 +25,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .fugacity import CubicKernel
-from .flash_support import FlashError, wilson_k
+from .flash_support import FlashError, solve, wilson_k
 
 CONVERGED = 1e-11
 VERIFY = 1e-8
@@ -174,7 +174,7 @@ def envelope_point(kernel: CubicKernel, z: np.ndarray, beta: float, spec: str, v
             jacobian[size, size] = 0.0
         jacobian[size, :size] = z * k / denominator**2
         try:
-            step = np.linalg.solve(jacobian, -equations)
+            step = solve(jacobian, -equations)
         except np.linalg.LinAlgError:
             raise FlashError(f"{where}: singular Jacobian (the state is near a critical point)") from None
         largest = float(np.max(np.abs(step)))

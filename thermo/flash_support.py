@@ -4,6 +4,7 @@ describe a state in it, the notes they attach, and Wilson's K-values."""
 from __future__ import annotations
 
 import numpy as np
+from scipy.linalg.lapack import dgesv
 
 NEAR_CRITICAL = "near-critical"
 LIQUID_LIQUID = "liquid-liquid"
@@ -87,3 +88,13 @@ def near_critical_split(ln_k: np.ndarray) -> bool:
     """Whether a two-phase split's K-values are all near 1 (phases alike)."""
     return float(np.max(np.abs(ln_k))) < LN_K_NEAR
 
+
+
+def solve(matrix: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    """x with matrix @ x = rhs for the small dense systems of the flash,
+    through LAPACK's dgesv directly (numpy's solve costs several times more
+    per call at these sizes); raises numpy.linalg.LinAlgError if singular."""
+    _, _, x, info = dgesv(matrix, rhs)
+    if info != 0:
+        raise np.linalg.LinAlgError(f"singular matrix (LAPACK dgesv info {info})")
+    return x

@@ -88,10 +88,17 @@ class CubicKernel:
         # A lone root denser than the model's own critical density is liquid-like.
         self.liquid_z_over_b = parameters.critical_compressibility / parameters.omega_b
         self.cp_coefficients = mixture.cp_coefficients[index]
+        self._last = None
 
     def at(self, temperature: float, pressure: float) -> "CubicAtTP":
-        """The kernel fixed at T (K) and P (Pa)."""
-        return CubicAtTP(self, temperature, pressure)
+        """The kernel fixed at T (K) and P (Pa); the last one is kept, since
+        a flash asks for the same state several times in a row."""
+        last = self._last
+        if last is not None and last.temperature == temperature and last.pressure == pressure:
+            return last
+        state = CubicAtTP(self, temperature, pressure)
+        self._last = state
+        return state
 
 
 _KERNELS: "weakref.WeakKeyDictionary[CubicModel, dict]" = weakref.WeakKeyDictionary()
@@ -170,7 +177,7 @@ class CubicAtTP:
         self.sqrt_t = math.sqrt(temperature)
         q = kernel.q0 - kernel.q1 * self.sqrt_t
         self.q = q
-        self.a = np.outer(q, q) * kernel.one_minus_k  # Pa m6/mol2
+        self.a = q[:, None] * q * kernel.one_minus_k  # Pa m6/mol2
         rt = R * temperature
         self.big_a = self.a * (pressure / (rt * rt))
         self.big_b = kernel.b * (pressure / rt)
@@ -219,10 +226,10 @@ class CubicAtTP:
         big_a = float(s @ x)
         big_b = float(self.big_b @ x)
         z, log_ratio, liquid = self._choose(big_a, big_b, root)
-        bi_b = self.big_b / big_b
-        ln_phi = bi_b * (z - 1.0) - math.log(z - big_b) - (
-            big_a / (big_b * self.kernel.span) * log_ratio
-        ) * (2.0 * s / big_a - bi_b)
+        # ln phi_i = (b_i/b)(Z - 1) - ln(Z - B) - A/(B (d1 - d2)) ln(...) (2 s_i/A - b_i/b), regrouped
+        attraction = big_a / (big_b * self.kernel.span) * log_ratio
+        ln_phi = self.big_b * ((z - 1.0 + attraction) / big_b) - s * (2.0 * attraction / big_a)
+        ln_phi -= math.log(z - big_b)
         return ln_phi, z, liquid
 
     def reduced_gibbs(self, x: np.ndarray, root: str = "auto") -> float:
@@ -382,25 +389,37 @@ class CubicAtTP:
         f_bd = -f_b / t
         f_bt = f_b * shift
         f_dt = f / (t * t)
-        f_i = -g + f_big_b * bi + f_big_d * d_i
-        # f_ij = f_nb (b_i + b_j) + f_bd (b_i D_j + b_j D_i) + f_bb b_i b_j + f_D D_ij, as b c^T + c b^T + 2 f_D a
-        c = f_nb + f_bd * d_i + (0.5 * f_bb_total) * bi
-        bc = bi[:, None] * c
-        f_iv = -g_v + f_bv_total * bi + f_dv * d_i
-        f_it = f_bt * bi + f_dt * d_i + f_big_d * d_it
         p_v = -rt * f_vv_total - rt / (v * v)
         p_t = p / t - rt * f_vt
-        p_i = rt / v - rt * f_iv
-        partial_volume = p_i / -p_v
-        scaled = p_i / (rt * p_v)
-        dlnphi_dn = bc + bc.T + (2.0 * f_big_d) * self.a + (p_i[:, None] * scaled + 1.0)
         ln_z = math.log(z)
         minus_t_ft = -t * f_t
+        # Every per-component vector is a combination of 1, b_i, (a x)_i and (a_T x)_i:
+        # F_i = -g + F_B b_i + F_D D_i, P_i = RT/V - RT F_iV, F_iT = F_BT b_i + F_DT D_i + F_D D_iT,
+        # and the symmetric part c_j of F_ij = b_i c_j + c_i b_j + F_D D_ij; one product builds them all.
+        p_row = (rt / v + rt * g_v, -rt * f_bv_total, -2.0 * rt * f_dv, 0.0)
+        to_scaled = 1.0 / (rt * p_v)
+        along_t = p_t * to_scaled
+        rows = np.array((
+            (-g - ln_z, f_big_b, 2.0 * f_big_d, 0.0),
+            (p_row[0] * to_scaled, p_row[1] * to_scaled, p_row[2] * to_scaled, 0.0),
+            (f_nb, 0.5 * f_bb_total, 2.0 * f_bd, 0.0),
+            (1.0 / t + along_t * p_row[0], f_bt + along_t * p_row[1], 2.0 * f_dt + along_t * p_row[2], 2.0 * f_big_d),
+            (-to_scaled * p_row[0] - 1.0 / p, -to_scaled * p_row[1], -to_scaled * p_row[2], 0.0),
+        ))
+        basis = np.empty((4, k.size))
+        basis[0] = 1.0
+        basis[1] = bi
+        basis[2] = ai
+        basis[3] = ai_t
+        ln_phi, scaled, c, dlnphi_dt, dlnphi_dp = rows @ basis
+        p_i = scaled * (rt * p_v)
+        bc = bi[:, None] * c
+        dlnphi_dn = bc + bc.T + (2.0 * f_big_d) * self.a + (p_i[:, None] * scaled + 1.0)
         return PhaseDerivatives(
-            ln_phi=f_i - ln_z,
+            ln_phi=ln_phi,
             dlnphi_dn=dlnphi_dn,
-            dlnphi_dT=f_it + 1.0 / t - partial_volume * p_t / rt,
-            dlnphi_dP=partial_volume / rt - 1.0 / p,
+            dlnphi_dT=dlnphi_dt,
+            dlnphi_dP=dlnphi_dp,
             compressibility=z,
             molar_volume=v,
             enthalpy=rt * (minus_t_ft + z - 1.0),
@@ -416,18 +435,16 @@ class CubicAtTP:
             from .components import P_REF, T_REF
 
             t = self.temperature
-            coefficients = self.kernel.cp_coefficients
-            powers_h = np.array([t - T_REF, (t * t - T_REF**2) / 2, (t**3 - T_REF**3) / 3,
-                                 (t**4 - T_REF**4) / 4, (t**5 - T_REF**5) / 5])
-            powers_s = np.array([math.log(t / T_REF), t - T_REF, (t * t - T_REF**2) / 2,
-                                 (t**3 - T_REF**3) / 3, (t**4 - T_REF**4) / 4])
-            powers_cp = np.array([1.0, t, t * t, t**3, t**4])
-            stacked = coefficients @ np.column_stack((powers_h, powers_s, powers_cp))
-            self._ideal = (
-                stacked[:, 0],
-                stacked[:, 1] - R * math.log(self.pressure / P_REF),
-                stacked[:, 2],
-            )
+            t2, t3, t4 = t * t, t**3, t**4
+            powers = np.array((
+                (t - T_REF, math.log(t / T_REF), 1.0),
+                ((t2 - T_REF**2) / 2, t - T_REF, t),
+                ((t3 - T_REF**3) / 3, (t2 - T_REF**2) / 2, t2),
+                ((t4 - T_REF**4) / 4, (t3 - T_REF**3) / 3, t3),
+                ((t4 * t - T_REF**5) / 5, (t4 - T_REF**4) / 4, t4),
+            ))
+            h, s, cp = (self.kernel.cp_coefficients @ powers).T
+            self._ideal = (h, s - R * math.log(self.pressure / P_REF), cp)
         return self._ideal
 
     def ideal_enthalpies(self) -> np.ndarray:

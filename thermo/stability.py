@@ -23,11 +23,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .flash_support import solve
 from .fugacity import CubicAtTP
 
 UNSTABLE_TM = -1e-9  # tm below this proves instability beyond rounding
 TRIVIAL_DISTANCE = 1e-4  # sum (ln W - ln z)^2 below this (with tm >= 0): the trial is falling onto the feed
 CONVERGED_STEP = 1e-10  # max |delta ln W| of a converged stationary point
+SETTLED_STEP = 1e-5  # a trial this close to its stationary point ...
+SETTLED_TM = 1e-4  # ... with tm above this has settled on a positive minimum
 SUBSTITUTION_STEPS = 40  # before the Newton finish
 NEWTON_STEPS = 30
 ACCELERATE_EVERY = 5
@@ -70,12 +73,14 @@ def _trial(state: CubicAtTP, z: np.ndarray, ln_z: np.ndarray, d: np.ndarray, ln_
     saved_plain = None
     iterations = 0
     for iterations in range(1, SUBSTITUTION_STEPS + 1):
-        ln_w = np.clip(ln_w, -LN_W_LIMIT, LN_W_LIMIT)
+        ln_w = np.maximum(ln_w, -LN_W_LIMIT)
         w_moles = np.exp(ln_w)
         total = float(w_moles.sum())
-        ln_phi, _, _ = state.ln_phi(w_moles / total)
+        ln_phi, _, _ = state.ln_phi(w_moles * (1.0 / total))
         ln_w_new = d - ln_phi
-        tm = 1.0 + float(w_moles @ (ln_w - ln_w_new - 1.0))
+        delta = ln_w_new - ln_w
+        # tm = 1 + sum W (ln W + ln phi - d - 1) = 1 - sum W - sum W delta
+        tm = 1.0 - total - float(w_moles @ delta)
         if saved_plain is not None and tm > previous_tm:
             # The extrapolation overshot: return to the plain iterate.
             ln_w = saved_plain
@@ -85,11 +90,13 @@ def _trial(state: CubicAtTP, z: np.ndarray, ln_z: np.ndarray, d: np.ndarray, ln_
         saved_plain = None
         if tm < UNSTABLE_TM:
             return TrialResult(kind, w_moles / total, tm, "unstable", iterations)
-        delta = ln_w_new - ln_w
-        distance = float((ln_w_new - ln_z) @ (ln_w_new - ln_z))
-        if distance < TRIVIAL_DISTANCE and tm >= 0.0:
+        gap = ln_w_new - ln_z
+        if tm >= 0.0 and float(gap @ gap) < TRIVIAL_DISTANCE:
             return TrialResult(kind, z, 0.0, "trivial", iterations)
-        if float(np.max(np.abs(delta))) < CONVERGED_STEP:
+        step = float(np.abs(delta).max())
+        if step < CONVERGED_STEP or (step < SETTLED_STEP and tm > SETTLED_TM):
+            # Substitution lowers tm at every step, and from here by no more than
+            # about sum W delta^2: a tm this clearly positive stays positive.
             return TrialResult(kind, w_moles / total, tm, "stationary", iterations)
         previous_tm = tm
         if previous_delta is not None and iterations % ACCELERATE_EVERY == 0:
@@ -125,7 +132,7 @@ def _newton_trial(state, z, ln_z, d, ln_w, kind, done):
         gradient = root_w * residual
         hessian = np.eye(len(z)) + np.outer(root_w, root_w) * props.dlnphi_dn / total
         try:
-            step = np.linalg.solve(hessian, -gradient)
+            step = solve(hessian, -gradient)
         except np.linalg.LinAlgError:
             step = -gradient
         alpha = 2.0 * root_w

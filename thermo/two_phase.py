@@ -22,6 +22,7 @@ import numpy as np
 
 from .components import R
 from .fugacity import CubicAtTP, PhaseDerivatives
+from .flash_support import solve
 from .rachford_rice import RachfordRiceError, rachford_rice
 
 SWITCH_TO_NEWTON = 1e-5  # max |ln f_y - ln f_x| at which substitution hands over
@@ -184,10 +185,11 @@ def _newton(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float, done
         dbeta = -weight / -float(z @ (k_minus_1**2 / denominator**2))
         # dx_i/dlnK_j = -x_i / D_i (beta K_j delta_ij + (K_i - 1) dbeta_j)
         dx = -(x / denominator)[:, None] * (beta * k * eye + k_minus_1[:, None] * dbeta[None, :])
-        dy = k[:, None] * dx + np.diag(y)
+        dy = k[:, None] * dx
+        dy.flat[:: size + 1] += y
         jacobian = eye + props_y.dlnphi_dn @ dy - props_x.dlnphi_dn @ dx
         try:
-            step = np.linalg.solve(jacobian, -gradient)
+            step = solve(jacobian, -gradient)
         except np.linalg.LinAlgError:
             raise SplitError("singular Jacobian in the Newton stage") from None
         largest = float(np.max(np.abs(step)))
@@ -234,9 +236,9 @@ def temperature_derivative(state: CubicAtTP, z: np.ndarray, result: Split) -> tu
     x, y = result.x, result.y
     px, py = result.props_x, result.props_y
     size = len(z)
-    ones = np.ones((size, size))
-    hessian = (np.diag(1.0 / y) - ones + py.dlnphi_dn) / beta + (np.diag(1.0 / x) - ones + px.dlnphi_dn) / (1.0 - beta)
-    dv_dt = np.linalg.solve(hessian, -(py.dlnphi_dT - px.dlnphi_dT))
+    hessian = (py.dlnphi_dn - 1.0) / beta + (px.dlnphi_dn - 1.0) / (1.0 - beta)
+    hessian.flat[:: size + 1] += 1.0 / (beta * y) + 1.0 / ((1.0 - beta) * x)
+    dv_dt = solve(hessian, -(py.dlnphi_dT - px.dlnphi_dT))
     h_ideal = state.ideal_enthalpies()
     cp_ideal = state.ideal_heat_capacities()
     rt2 = R * t * t
