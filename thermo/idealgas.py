@@ -91,11 +91,12 @@ def enthalpy_entropy(mixture: Mixture, temperature: float, pressure: float, x: n
 
     The single-state hot path: one small matrix product, then scalar Horner sums.
     """
-    c0, c1, c2, c3, c4 = (x @ mixture.cp_coefficients).tolist()
+    terms = mixture.terms(x)
+    c0, c1, c2, c3, c4 = terms.cp_coefficients
     t = temperature
     h = ((((c4 / 5 * t + c3 / 4) * t + c2 / 3) * t + c1 / 2) * t + c0) * t
     h -= c0 * _REF_H[0] + c1 * _REF_H[1] + c2 * _REF_H[2] + c3 * _REF_H[3] + c4 * _REF_H[4]
     s = c0 * math.log(t) + (((c4 / 4 * t + c3 / 3) * t + c2 / 2) * t + c1) * t
     s -= c0 * _REF_S[0] + c1 * _REF_S[1] + c2 * _REF_S[2] + c3 * _REF_S[3] + c4 * _REF_S[4]
-    s += -R * math.log(pressure / P_REF) + mixing_entropy(x)
+    s += -R * math.log(pressure / P_REF) + terms.mixing_entropy
     return h, s

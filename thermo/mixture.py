@@ -13,6 +13,21 @@ import numpy as np
 from .components import Component, get_component
 
 
+_TERMS_CACHE_SIZE = 4096
+
+
+@dataclass(frozen=True)
+class CompositionTerms:
+    """Composition-only quantities of one mole-fraction vector: Cp
+    coefficients (J/(mol K) per power of T), entropy of mixing -R sum x ln x
+    (J/(mol K)), pseudo-critical temperature (K) and pressure (Pa)."""
+
+    cp_coefficients: tuple[float, ...]
+    mixing_entropy: float
+    pseudo_critical_temperature: float
+    pseudo_critical_pressure: float
+
+
 @dataclass(frozen=True, eq=False)
 class Mixture:
     """Components and their binary interaction parameters, SI arrays.
@@ -32,6 +47,7 @@ class Mixture:
     cp_coefficients: np.ndarray = field(init=False)  # (n, 5), J/(mol K) per power of T
     cp_low: np.ndarray = field(init=False)  # K
     cp_high: np.ndarray = field(init=False)  # K
+    _terms_cache: dict = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         from .components import R
@@ -77,6 +93,27 @@ class Mixture:
         if kij.shape != (len(comps), len(comps)):
             raise ValueError("kij must be a square matrix over the mixture's components")
         put("kij", kij)
+        put("_critical_pair", np.column_stack((tc, pc)))
+        put("_terms_cache", {})
+
+    def terms(self, x: np.ndarray) -> "CompositionTerms":
+        """What depends on composition alone, computed once per distinct
+        mole-fraction vector ``x`` (the solver meets the same ones again and
+        again): the mixture's Cp coefficients, entropy of mixing and
+        Kay's-rule pseudo-critical point."""
+        key = x.tobytes()
+        found = self._terms_cache.get(key)
+        if found is None:
+            from .components import R
+
+            positive = x[x > 0.0]
+            mixing = 0.0 if len(x) == 1 else float(-R * (positive @ np.log(positive)))
+            tc, pc = (x @ self._critical_pair).tolist()
+            found = CompositionTerms(tuple((x @ self.cp_coefficients).tolist()), mixing, tc, pc)
+            if len(self._terms_cache) >= _TERMS_CACHE_SIZE:
+                self._terms_cache.clear()
+            self._terms_cache[key] = found
+        return found
 
     @property
     def size(self) -> int:

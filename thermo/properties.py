@@ -11,7 +11,8 @@ from .state import LIQUID, SUPERCRITICAL, VAPOR, PhaseState, StreamState
 
 def pseudo_critical(mixture, x: np.ndarray) -> tuple[float, float]:
     """Kay's-rule pseudo-critical temperature (K) and pressure (Pa)."""
-    return float(x @ mixture.critical_temperature), float(x @ mixture.critical_pressure)
+    terms = mixture.terms(x)
+    return terms.pseudo_critical_temperature, terms.pseudo_critical_pressure
 
 
 def phase_of_single_phase(model, temperature: float, pressure: float, x: np.ndarray, res: Residual) -> str:
