@@ -74,6 +74,7 @@ class CubicKernel:
         self.pc = pc
         self.omega = mixture.acentric_factor[index]
         sqrt_ac = np.sqrt(parameters.omega_a * (R * tc) ** 2 / pc)
+        self.sqrt_ac = sqrt_ac  # sqrt(a) at the critical temperature, sqrt(Pa m6)/mol
         kappa = parameters.kappa(mixture.acentric_factor)[index]
         # sqrt(a_i(T)) = q0_i - q1_i sqrt(T), the Soave-form alpha function
         self.q0 = sqrt_ac * (1.0 + kappa)

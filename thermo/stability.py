@@ -9,7 +9,9 @@ tangent-plane distance. In terms of unnormalised trial moles W,
 
 whose stationary points satisfy ln W_i = d_i - ln phi_i(w). Two trials are
 started from Wilson's K-values, one vapor-like (W = z K) and one liquid-like
-(W = z / K). Each is iterated by successive substitution, with Michelsen's
+(W = z / K); where a second liquid may form (components of very different
+cohesion, e.g. water with hydrocarbons), near-pure trials of those
+components follow, as Michelsen and Mollerup (2007, ch. 10) advise. Each is iterated by successive substitution, with Michelsen's
 dominant-eigenvalue extrapolation every few steps, and finished by Newton's
 method on alpha_i = 2 sqrt(W_i) when substitution is slow. Any W with
 tm < 0 proves instability; stability needs every trial to end at the
@@ -34,6 +36,10 @@ SETTLED_TM = 1e-4  # ... with tm above this has settled on a positive minimum
 SUBSTITUTION_STEPS = 40  # before the Newton finish
 NEWTON_STEPS = 30
 ACCELERATE_EVERY = 5
+# Extra near-pure liquid trials where condensable components (Tc above this
+# fraction of T) differ in cohesion sqrt(a_c)/b by more than this ratio.
+CONDENSABLE_TR = 0.6
+LIQUID_CONTRAST = 1.8
 LN_W_LIMIT = 200.0  # |ln W| is held below this, so that no trial mole number underflows to zero
 
 
@@ -149,6 +155,27 @@ def _newton_trial(state, z, ln_z, d, ln_w, kind, done):
     raise StabilityError(f"{kind} trial phase did not converge in {done + NEWTON_STEPS} iterations")
 
 
+def _second_liquid_candidates(state: CubicAtTP, z: np.ndarray, trials) -> list[int]:
+    """Components whose near-pure liquid is worth a trial of its own: where
+    the condensable components' cohesion sqrt(a_c)/b (a regular-solution
+    measure) differs by more than LIQUID_CONTRAST, a second liquid may form
+    that Wilson-seeded trials miss (water with hydrocarbons; CO2, H2S or
+    ammonia with heavier ones). Ordered from the most cohesive; components
+    already dominant in a stationary point found are left out."""
+    kernel = state.kernel
+    if kernel.size < 2:
+        return []
+    condensable = kernel.tc > CONDENSABLE_TR * state.temperature
+    if np.count_nonzero(condensable) < 2:
+        return []
+    cohesion = kernel.sqrt_ac / kernel.b
+    if float(cohesion[condensable].max()) < LIQUID_CONTRAST * float(cohesion[condensable].min()):
+        return []
+    dominant = {int(np.argmax(t.composition)) for t in trials if t.outcome == "stationary"}
+    order = np.argsort(-cohesion)
+    return [int(i) for i in order if condensable[i] and int(i) not in dominant]
+
+
 def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,
                    ln_phi_feed: np.ndarray | None = None) -> StabilityResult:
     """Tangent-plane test of feed z (mole fractions over the kernel's active
@@ -166,6 +193,13 @@ def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,
     unstable_vapor = vapor.outcome == "unstable"
     unstable_liquid = liquid.outcome == "unstable"
     if not (unstable_vapor or unstable_liquid):
+        for candidate in _second_liquid_candidates(state, z, trials):
+            start = np.full(len(z), 1e-3 / len(z))
+            start[candidate] += 1.0 - 1e-3
+            extra = _trial(state, z, ln_z, d, np.log(start), "liquid-like")
+            trials = trials + (extra,)
+            if extra.outcome == "unstable":
+                return StabilityResult(False, trials, z / extra.composition, slow)
         return StabilityResult(True, trials, None, slow)
     if unstable_vapor and unstable_liquid:
         k = vapor.composition / liquid.composition
