@@ -160,9 +160,13 @@ _TABLE_STYLE = dict(box=box.SIMPLE_HEAD, title_justify="left", show_edge=False, 
 
 
 def _align_headers(table: Table) -> Table:
-    # Headers of two or three lines (label, unit) line up at their foot.
+    # Headers of two or three lines (label, unit) line up at their foot: pad
+    # the shorter ones with blank lines above. (Bottom alignment of the
+    # column would also push a wrapped cell's first line above its row.)
+    tallest = max(str(column.header).count("\n") for column in table.columns)
     for column in table.columns:
-        column.vertical = "bottom"
+        header = str(column.header)
+        column.header = "\n" * (tallest - header.count("\n")) + header
     return table
 
 
