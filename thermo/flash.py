@@ -38,6 +38,7 @@ from .departures import LIQUID_LIKE, StateInputError, check_state
 from .flash_support import (
     LIQUID_LIQUID,
     NEAR_CRITICAL,
+    THREE_PHASE,
     FlashError,
     describe_state,
     lazy_description,
@@ -58,8 +59,9 @@ from .saturation import (
     saturation_temperature_point,
     vaporization_enthalpy,
 )
-from .stability import StabilityError, stability_test
+from .stability import StabilityError, second_liquid_possible, stability_test
 from .state import LIQUID, VAPOR, StreamState
+from .three_phase import MultiSplit, multiphase_split
 from .two_phase import SWITCH_WARM, Split, SplitError, split, temperature_derivative
 
 __all__ = [
@@ -146,14 +148,17 @@ def _embed(values: np.ndarray, active: tuple[int, ...], size: int) -> np.ndarray
 # --- equilibrium at fixed T and P over the active components -------------------
 @dataclass(frozen=True)
 class _Equilibrium:
-    """The equilibrium at one (T, P): one phase (``split`` None, ``root``
-    the chosen volume root) or a two-phase split; ``notes`` for the stream."""
+    """The equilibrium at one (T, P): one phase (``split`` and ``multi``
+    None, ``root`` the chosen volume root), a two-phase split, or a split
+    found by the multiphase method (``multi``: three phases, or a different
+    pair than the two-phase flash found); ``notes`` for the stream."""
 
     state: CubicAtTP
     z: np.ndarray
     split: Split | None
     root: str
     notes: tuple[str, ...]
+    multi: MultiSplit | None = None
 
 
 def _equilibrium(kernel: CubicKernel, temperature: float, pressure: float, z: np.ndarray, where: str,
@@ -232,30 +237,58 @@ def _verify_split(state: CubicAtTP, z: np.ndarray, result: Split, where: str) ->
         )
 
 
-def _check_third_phase(kernel: CubicKernel, eq: _Equilibrium, where: str) -> None:
-    """Refuse a two-phase answer whose phases are themselves unstable (a third
-    phase would form), which the two-phase flash cannot represent."""
-    if eq.split is None or kernel.size < 3:
-        return
+def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit | None = None) -> _Equilibrium:
+    """The equilibrium once the phases of a two-phase answer are tested for
+    stability themselves: where a third phase would form (vapor and two
+    liquids), Michelsen's multiphase split from the two phases and the trial
+    phase that proved the instability; otherwise ``eq`` unchanged."""
+    if kernel.size < 3:
+        return eq
     state = eq.state
-    x = eq.split.x
-    try:
-        stability = stability_test(
-            state, x, wilson_k(kernel.tc, kernel.pc, kernel.omega, state.temperature, state.pressure)
-        )
-    except StabilityError:
-        return
-    if not stability.stable:
+    if warm is not None:
+        found = multiphase_split(state, eq.z, list(warm.compositions))
+        if found is not None and len(found.amounts) == len(warm.amounts):
+            return _from_multi(state, eq.z, found, where)
+    if eq.split is None and eq.multi is None:
+        return eq
+    phases = [eq.split.y, eq.split.x] if eq.split is not None else list(eq.multi.compositions)
+    k_wilson = wilson_k(kernel.tc, kernel.pc, kernel.omega, state.temperature, state.pressure)
+    for _ in range(2):
+        try:
+            stability = stability_test(state, phases[-1], k_wilson)
+        except StabilityError:
+            return eq
+        if stability.stable:
+            return eq
+        trial = next(t.composition for t in stability.trials if t.outcome == "unstable")
+        found = multiphase_split(state, eq.z, phases + [trial])
+        if found is None:
+            raise FlashError(
+                f"{where}: the two-phase answer is unstable (a third phase would form), "
+                "and the multiphase split did not converge"
+            )
+        eq = _from_multi(state, eq.z, found, where)
+        phases = list(found.compositions)
+    return eq
+
+
+def _from_multi(state: CubicAtTP, z: np.ndarray, found: MultiSplit, where) -> _Equilibrium:
+    balance = float(np.max(np.abs(found.amounts @ found.compositions - z)))
+    if not (found.fugacity_error < VERIFY_FUGACITY and balance < VERIFY_BALANCE):
         raise FlashError(
-            f"{where}: a third phase would form (the two-phase solution is unstable); "
-            "three-phase equilibrium is not supported"
+            f"{where}: the multiphase split failed verification (ln-fugacity mismatch "
+            f"{found.fugacity_error:.3g}, mass-balance error {balance:.3g})"
         )
+    notes = (THREE_PHASE,) if len(found.amounts) >= 3 else ()
+    return _Equilibrium(state, z, None, "auto", notes, found)
 
 
 # --- building stream states ----------------------------------------------------
 def _stream(model, temperature: float, pressure: float, z_full: np.ndarray, active, eq: _Equilibrium) -> StreamState:
     full = kernel_for(model).at(temperature, pressure)
     size = model.mixture.size
+    if eq.multi is not None:
+        return _multi_stream(model, full, temperature, pressure, z_full, active, eq)
     if eq.split is None:
         res = full.residual(z_full, eq.root)
         label = LIQUID if res.root == LIQUID_LIKE else VAPOR
@@ -274,6 +307,27 @@ def _stream(model, temperature: float, pressure: float, z_full: np.ndarray, acti
     phase_x = phase_state(model, temperature, pressure, x_full, label_x, 1.0 - result.beta, res_x)
     phases = (phase_y, phase_x) if label_y == VAPOR else (phase_x, phase_y)
     return combine_phases(model, temperature, pressure, z_full, phases, eq.notes)
+
+
+def _multi_stream(model, full, temperature, pressure, z_full, active, eq: _Equilibrium) -> StreamState:
+    """Phases of a multiphase split: the lightest is the vapor when its root
+    is vapor-like or it lies above its own pseudo-critical temperature; the
+    rest are liquids."""
+    size = model.mixture.size
+    rows = [_embed(row, active, size) for row in eq.multi.compositions]
+    residuals = [full.residual(row) for row in rows]
+    lightest = int(np.argmax([r.molar_volume for r in residuals]))
+    light = residuals[lightest]
+    vapor_like = light.root != LIQUID_LIKE or temperature >= float(rows[lightest] @ model.mixture.critical_temperature)
+    phases = []
+    for k, (row, res) in enumerate(zip(rows, residuals)):
+        label = VAPOR if (k == lightest and vapor_like) else LIQUID
+        phases.append(phase_state(model, temperature, pressure, row, label, float(eq.multi.amounts[k]), res))
+    phases.sort(key=lambda p: p.label != VAPOR)
+    notes = eq.notes
+    if len(phases) > 1 and not any(p.label == VAPOR for p in phases):
+        notes = notes + (LIQUID_LIQUID,)
+    return combine_phases(model, temperature, pressure, z_full, tuple(phases), notes)
 
 
 def _saturated_stream(model, point: SaturationPoint, z_full: np.ndarray, active, beta: float,
@@ -304,7 +358,7 @@ def flash_tp(model, temperature: float, pressure: float, x: np.ndarray) -> Strea
     kernel = kernel_for(model, active)
     where = lazy_description("TP flash of ", model, z, T=temperature, P=pressure)
     eq = _equilibrium(kernel, temperature, pressure, z[list(active)], where)
-    _check_third_phase(kernel, eq, where)
+    eq = _third_phase(kernel, eq, where)
     return _stream(model, temperature, pressure, z, active, eq)
 
 
@@ -515,26 +569,66 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
         guess = single_t
         known[single_t] = eq
     # Second pass: the equilibrium state at each temperature, started from the
-    # last split carried to the new temperature along its own d ln K / dT.
-    last = [None]  # (T, split, d ln K/dT, d beta/dT) of the latest split
+    # last split carried to the new temperature along its own d ln K / dT; where
+    # two liquids can form, with the phases' own stability tested each time.
+    evaluate = _equilibrium_evaluator(kernel, pressure, za, kind, where, known, second_liquid_possible(kernel))
+    t, eq = _search_temperature(evaluate, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what)
+    eq = _third_phase(kernel, eq, where)
+    return _verified_target(_stream(model, t, pressure, z_full, active, eq), target, kind, tolerance, where)
 
-    def equilibrium(t):
+
+def _equilibrium_evaluator(kernel, pressure, za, kind, where, known, multiphase: bool):
+    """evaluate(T) -> (H or S, its temperature derivative, equilibrium) at
+    the equilibrium state. Two-phase splits start from the last one carried
+    along d ln K/dT and give an analytic derivative; multiphase splits (when
+    ``multiphase``) start from the last one and give a forward difference
+    (the implicit derivative of a multiphase split is not worked out)."""
+    last = [None]  # (T, split, d ln K/dT, d beta/dT) of the latest two-phase split
+    last_multi = [None]
+    step = 1e-4  # K
+
+    def two_phase(t):
         eq = known.pop(t, None)
         if eq is None:
             start = None
             if last[0] is not None:
                 t_last, previous, dlnk_dt, dbeta_dt = last[0]
-                step = t - t_last
-                start = (previous.ln_k + dlnk_dt * step, min(max(previous.beta + dbeta_dt * step, 1e-6), 1.0 - 1e-6))
+                shift = t - t_last
+                start = (previous.ln_k + dlnk_dt * shift,
+                         min(max(previous.beta + dbeta_dt * shift, 1e-6), 1.0 - 1e-6))
             eq = _equilibrium(kernel, t, pressure, za, where, start)
+        return eq
+
+    def evaluate(t):
+        eq = two_phase(t)
+        if multiphase:
+            eq = _third_phase(kernel, eq, where, last_multi[0])
+        if eq.multi is not None:
+            last_multi[0] = eq.multi
+            value = _multi_value(eq, kind)
+            upper = _third_phase(kernel, _equilibrium(kernel, t + step, pressure, za, where), where, eq.multi)
+            upper_value = _multi_value(upper, kind) if upper.multi is not None else _equilibrium_value(upper, kind)[0]
+            return value, (upper_value - value) / step, eq
         value, slope, dlnk_dt, dbeta_dt = _equilibrium_value(eq, kind)
         if eq.split is not None:
             last[0] = (t, eq.split, dlnk_dt, dbeta_dt)
         return value, slope, eq
 
-    t, eq = _search_temperature(equilibrium, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what)
-    _check_third_phase(kernel, eq, where)
-    return _verified_target(_stream(model, t, pressure, z_full, active, eq), target, kind, tolerance, where)
+    return evaluate
+
+
+def _multi_value(eq: _Equilibrium, kind: str) -> float:
+    """H (J/mol) or S (J/(mol K)) per mole of feed of a multiphase split."""
+    state = eq.state
+    h_ideal, s_ideal = state.ideal_enthalpies(), state.ideal_entropies()
+    total = 0.0
+    for amount, row in zip(eq.multi.amounts, eq.multi.compositions):
+        h_res, s_res, _, _ = state.thermal(row)
+        if kind == "H":
+            total += amount * (float(row @ h_ideal) + h_res)
+        else:
+            total += amount * (float(row @ s_ideal) - R * float(row @ np.log(row)) + s_res)
+    return total
 
 
 # --- flashes at a given vapor fraction; bubble and dew points ---------------------

@@ -8,6 +8,7 @@ from scipy.linalg.lapack import dgesv
 
 NEAR_CRITICAL = "near-critical"
 LIQUID_LIQUID = "liquid-liquid"
+THREE_PHASE = "three-phase"
 
 # A pure component within this fraction of its critical temperature, at a
 # pressure within PR_NEAR of its critical pressure, is flagged near-critical.

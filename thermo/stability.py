@@ -40,6 +40,7 @@ ACCELERATE_EVERY = 5
 # fraction of T) differ in cohesion sqrt(a_c)/b by more than this ratio.
 CONDENSABLE_TR = 0.6
 LIQUID_CONTRAST = 1.8
+PERMANENT_GAS_TC = 100.0  # K: hydrogen, helium, neon never condense in process streams
 LN_W_LIMIT = 200.0  # |ln W| is held below this, so that no trial mole number underflows to zero
 
 
@@ -174,6 +175,19 @@ def _second_liquid_candidates(state: CubicAtTP, z: np.ndarray, trials) -> list[i
     dominant = {int(np.argmax(t.composition)) for t in trials if t.outcome == "stationary"}
     order = np.argsort(-cohesion)
     return [int(i) for i in order if condensable[i] and int(i) not in dominant]
+
+
+def second_liquid_possible(kernel) -> bool:
+    """Whether a mixture can form two liquids at all: its components, leaving
+    out the permanent gases (Tc below PERMANENT_GAS_TC), differ in cohesion
+    sqrt(a_c)/b by more than LIQUID_CONTRAST."""
+    if kernel.size < 2:
+        return False
+    condensable = kernel.tc > PERMANENT_GAS_TC
+    if np.count_nonzero(condensable) < 2:
+        return False
+    cohesion = kernel.sqrt_ac / kernel.b
+    return float(cohesion[condensable].max()) >= LIQUID_CONTRAST * float(cohesion[condensable].min())
 
 
 def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,

@@ -1,0 +1,165 @@
+"""A split into more than two phases at fixed T and P (in practice vapor and
+two liquids: water with hydrocarbons), by Michelsen's multiphase method
+(Michelsen, Comput. Chem. Eng. 18 (1994) 545).
+
+With the fugacity coefficients phi_ik of each phase k held fixed, the phase
+amounts beta_k minimise the convex function
+
+    Q(beta) = sum_k beta_k - sum_i z_i ln E_i,   E_i = sum_k beta_k / phi_ik,
+
+subject to beta_k >= 0, and the phase compositions follow as
+x_ik = z_i / (phi_ik E_i). Minimising Q by Newton's method (dropping a phase
+whose amount would go negative), then updating phi_ik from the new
+compositions, is successive substitution; at its fixed point every
+component's fugacity x_ik phi_ik P is the same in every phase present.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .flash_support import solve
+from .fugacity import CubicAtTP
+
+CONVERGED = 1e-11  # max change of ln phi between substitution steps
+SUBSTITUTION_STEPS = 500
+ACCELERATE_EVERY = 6
+VANISHED = 1e-12  # a phase amount below this has left the split
+MERGE = 1e-2  # max |ln x_k - ln x_l| at which two phases are taken as one
+
+
+@dataclass(frozen=True)
+class MultiSplit:
+    """A converged split: ``amounts`` (mol per mol feed) and ``compositions``
+    (one row of mole fractions per phase, over the active components);
+    ``fugacity_error`` is the largest |ln f_ik - ln f_il| between phases."""
+
+    amounts: np.ndarray
+    compositions: np.ndarray
+    fugacity_error: float
+    iterations: int
+
+
+def _q(z: np.ndarray, inverse_phi: np.ndarray, beta: np.ndarray) -> float:
+    return float(beta.sum() - z @ np.log(beta @ inverse_phi))
+
+
+def _phase_amounts(z: np.ndarray, inverse_phi: np.ndarray, beta: np.ndarray) -> np.ndarray:
+    """Minimise Q over beta >= 0 for fixed 1/phi (rows: phases): Newton's
+    method on the phases present, with backtracking and the bound kept, then
+    the Karush-Kuhn-Tucker test of the phases left out (one returns if its
+    gradient is negative)."""
+    beta = beta.copy()
+    active = beta > 0.0
+    if not np.any(active):
+        beta[:] = 1.0 / len(beta)
+        active[:] = True
+    for _ in range(len(beta) + 5):
+        for _ in range(100):
+            e = beta @ inverse_phi
+            ratio = z / e
+            gradient = 1.0 - inverse_phi @ ratio
+            index = np.flatnonzero(active)
+            g = gradient[index]
+            if float(np.max(np.abs(g))) < 1e-13:
+                break
+            weighted = inverse_phi[index] * (ratio / e)
+            step = solve(weighted @ inverse_phi[index].T, -g)
+            scale, hit = 1.0, None
+            negative = np.flatnonzero(step < 0.0)
+            if negative.size:
+                limits = -beta[index[negative]] / step[negative]
+                j = int(np.argmin(limits))
+                if limits[j] < 1.0:
+                    scale, hit = float(limits[j]), int(index[negative[j]])
+            q_now = _q(z, inverse_phi, beta)
+            for _ in range(40):
+                trial = beta.copy()
+                trial[index] += scale * step
+                if hit is not None:
+                    trial[hit] = 0.0  # the step was cut to land this phase on its bound
+                trial = np.maximum(trial, 0.0)
+                if np.any(trial[index] > 0.0) and _q(z, inverse_phi, trial) <= q_now + 1e-15 * abs(q_now):
+                    break
+                scale *= 0.5
+                hit = None
+            beta = trial
+            active = beta > 0.0
+        e = beta @ inverse_phi
+        gradient = 1.0 - inverse_phi @ (z / e)
+        returning = np.flatnonzero((~active) & (gradient < -1e-12))
+        if returning.size == 0:
+            return beta
+        j = int(returning[np.argmin(gradient[returning])])
+        active[j] = True
+        beta[j] = 1e-10
+    return beta
+
+
+def _merge_alike(compositions: np.ndarray, beta: np.ndarray) -> int | None:
+    """The index of a phase whose composition has come within MERGE of
+    another's (its amount is handed to that one), or None."""
+    logs = np.log(compositions / compositions.sum(axis=1)[:, None])
+    for k in range(len(beta)):
+        for l in range(k + 1, len(beta)):
+            if float(np.max(np.abs(logs[k] - logs[l]))) < MERGE:
+                beta[k] += beta[l]
+                return l
+    return None
+
+
+def multiphase_split(state: CubicAtTP, z: np.ndarray, starts: list[np.ndarray]) -> MultiSplit | None:
+    """The split of feed z (over the kernel's active components, all
+    positive) at the state's T and P, from the start compositions
+    ``starts`` (one per phase); None when it fails to converge."""
+    compositions = np.array(starts, dtype=float)
+    compositions = compositions / compositions.sum(axis=1)[:, None]
+    phases = len(compositions)
+    ln_phi = np.array([state.ln_phi(c)[0] for c in compositions])
+    beta = np.full(phases, 1.0 / phases)
+    history = []
+    for iteration in range(1, SUBSTITUTION_STEPS + 1):
+        inverse_phi = np.exp(-ln_phi)
+        beta = _phase_amounts(z, inverse_phi, beta)
+        e = beta @ inverse_phi
+        compositions = (z / e) * inverse_phi
+        present = beta > VANISHED
+        # Every phase is updated, an absent one too: it then acts as a trial
+        # phase that either returns or settles as a stable non-phase.
+        new_ln_phi = np.array([state.ln_phi(row / row.sum())[0] for row in compositions])
+        merged = _merge_alike(compositions, beta)
+        if merged is not None:
+            # Two phases have become one: go on with one fewer.
+            keep = [k for k in range(len(beta)) if k != merged]
+            beta, new_ln_phi, compositions = beta[keep], new_ln_phi[keep], compositions[keep]
+            ln_phi = new_ln_phi
+            history.clear()
+            continue
+        change = new_ln_phi[present] - ln_phi[present]
+        step = float(np.max(np.abs(change))) if change.size else 0.0
+        history.append(new_ln_phi - ln_phi)
+        ln_phi = new_ln_phi
+        if step < CONVERGED:
+            break
+        if iteration % ACCELERATE_EVERY == 0 and len(history) >= 2:
+            last, before = history[-1][present].ravel(), history[-2][present].ravel()
+            overlap = float(before @ last)
+            eigen = float(last @ last) / overlap if overlap != 0.0 else 0.0
+            if 0.0 < eigen < 0.95:
+                ln_phi = ln_phi + history[-1] * (eigen / (1.0 - eigen))
+                history.clear()
+    else:
+        return None
+    keep = np.flatnonzero(beta > VANISHED)
+    amounts = beta[keep]
+    rows = compositions[keep]
+    rows = rows / rows.sum(axis=1)[:, None]
+    # Fresh fugacities of the phases returned, for the verification.
+    ln_f = np.array([np.log(r) + state.ln_phi(r)[0] for r in rows])
+    error = float(np.max(ln_f.max(axis=0) - ln_f.min(axis=0))) if len(rows) > 1 else 0.0
+    if not math.isfinite(error):
+        return None
+    return MultiSplit(amounts, rows, error, iteration)
