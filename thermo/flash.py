@@ -193,6 +193,14 @@ def _equilibrium(kernel: CubicKernel, temperature: float, pressure: float, z: np
         if result is not None:
             break
     if result is None:
+        # Substitution on K fell back onto the feed (as it can between two liquids
+        # of very different make-up): the multiphase method from the trial phase
+        # that proved the instability and the rest of the feed.
+        trial = next(t.composition for t in stability.trials if t.outcome == "unstable")
+        rest = np.maximum(z - 0.5 * trial, 1e-3 * z)
+        found = multiphase_split(state, z, [rest, trial])
+        if found is not None and len(found.amounts) >= 2:
+            return _from_multi(state, z, found, where)
         raise FlashError(
             f"{where}: the stability test found the feed unstable, but the two-phase split "
             "collapsed to one phase or did not converge"
@@ -525,6 +533,8 @@ def _equilibrium_value(eq: _Equilibrium, kind: str):
     at constant P (phase change included), and for a split d ln K/dT and
     d beta/dT (None for one phase)."""
     state = eq.state
+    if eq.multi is not None:
+        raise ArithmeticError("a multiphase split has no analytic temperature derivative here")
     if eq.split is None:
         value, slope, _ = _phase_value(state, eq.z, eq.root, kind)
         return value, slope, None, None
@@ -564,7 +574,7 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
     known = {}
     if single_t is not None:
         eq = _equilibrium(kernel, single_t, pressure, za, where)
-        if eq.split is None:
+        if eq.split is None and eq.multi is None:
             return _verified_target(_stream(model, single_t, pressure, z_full, active, eq), target, kind, tolerance, where)
         guess = single_t
         known[single_t] = eq
