@@ -17,6 +17,7 @@ Three parts, in this order:
 from __future__ import annotations
 
 import bisect
+import dataclasses
 import difflib
 import hashlib
 import math
@@ -52,6 +53,7 @@ from thermo.spec import (
     UNIT_TYPES,
     FeedStream,
     Limits,
+    LoopEstimate,
     Sheet,
     UnitSpec,
     UserComponent,
@@ -72,7 +74,8 @@ LIMIT_KEYS = {
     "max_pressure": "pressure",
     "max_discharge_temperature": "temperature",
 }
-STREAM_KEYS = ("temperature", "pressure", "vapor_fraction", "flow", "molar_flow", "mass_flow", "composition")
+STREAM_KEYS = ("temperature", "pressure", "vapor_fraction", "flow", "molar_flow", "mass_flow", "composition",
+               "loop_estimate")
 COMPONENT_KEYS = {
     "molar_mass": "molar_mass",
     "critical_temperature": "temperature",
@@ -715,9 +718,10 @@ class _Validator:
         components = self.check_components()
         known = self.known_components(components)
         interaction = self.check_interaction(known)
-        streams = self.check_streams(known)
+        streams, loop_estimates = self.check_streams(known)
         units = self.check_units()
         self.check_topology(streams, units)
+        self.check_loop_estimates()
         if self.problems:
             self.fail()
         return Sheet(
@@ -725,6 +729,7 @@ class _Validator:
             ambient_temperature_K=ambient, atmospheric_pressure_Pa=self.atmospheric,
             limits=limits or Limits(), components=components, interaction=interaction,
             streams=streams, units=units, path=self.path, locations=self.index.lines(),
+            loop_estimates=loop_estimates,
         )
 
     def check_format(self) -> int | None:
@@ -940,27 +945,48 @@ class _Validator:
             result[pair_id] = number
         return result
 
-    def check_streams(self, user_names: tuple[str, ...]) -> dict[str, FeedStream]:
+    def check_streams(self, user_names: tuple[str, ...]) -> tuple[dict[str, FeedStream], dict[str, LoopEstimate]]:
+        """The feeds, and the loop estimates (tables with loop_estimate = true)."""
         raw = self.data.get("streams")
         if raw is None:
-            return {}
+            return {}, {}
         section = self.table(("streams",), raw, "feed streams, one [streams.NAME] each")
         if section is None:
-            return {}
-        result: dict[str, FeedStream] = {}
+            return {}, {}
+        feeds: dict[str, FeedStream] = {}
+        estimates: dict[str, LoopEstimate] = {}
         for name, body in section.items():
             key = ("streams", name)
             name_ok = self.name_ok(key, name, "stream")
             table = self.table(key, body, "a feed stream's state, flow and composition")
             if table is None:
                 continue
-            stream = self.check_stream(key, name, table, user_names)
-            if stream is not None and name_ok:
-                result[name] = stream
-        return result
+            is_estimate = self.loop_estimate_flag(key, table)
+            stream = self.check_stream(key, name, table, user_names, is_estimate)
+            if stream is None or not name_ok:
+                continue
+            if is_estimate:
+                estimates[name] = LoopEstimate(**dataclasses.asdict(stream))
+            else:
+                feeds[name] = stream
+        return feeds, estimates
 
-    def check_stream(self, key: tuple, name: str, table: dict, user_names: tuple[str, ...]) -> FeedStream | None:
+    def loop_estimate_flag(self, key: tuple, table: dict) -> bool:
+        if "loop_estimate" not in table:
+            return False
+        value = table["loop_estimate"]
+        if not isinstance(value, bool):
+            self.problem("not-a-boolean", key + ("loop_estimate",),
+                         f"loop_estimate is true or false, without quotes; got {_shown(value)}",
+                         fix="write loop_estimate = true (the stream is a unit's outlet inside a loop, given a "
+                             "starting state) or remove the key (the stream is a feed)")
+            return _is_estimate_table(table)
+        return value
+
+    def check_stream(self, key: tuple, name: str, table: dict, user_names: tuple[str, ...],
+                     is_estimate: bool = False) -> FeedStream | None:
         self.unknown_keys(key, table, STREAM_KEYS, f"[streams.{name}]")
+        what = "loop-estimate stream" if is_estimate else "feed stream"
         ok = True
         temperature = pressure = vapor_fraction = None
         if "temperature" in table:
@@ -978,30 +1004,31 @@ class _Validator:
             missing = [f'{k} = "{quantities.example_of(k)}"' for k in ("temperature", "pressure") if k not in table]
             joined = " and ".join(missing) if not state_keys else " or ".join(missing)
             self.problem("state-underspecified", key,
-                         f"feed stream {name!r} needs two of temperature, pressure and vapor_fraction; "
+                         f"{what} {name!r} needs two of temperature, pressure and vapor_fraction; "
                          f"it has {', '.join(state_keys) or 'none'}",
                          fix="add " + joined)
             ok = False
         elif len(state_keys) == 3:
             self.problem("state-overspecified", key + ("vapor_fraction",),
-                         f"feed stream {name!r} gives temperature, pressure and vapor_fraction; "
+                         f"{what} {name!r} gives temperature, pressure and vapor_fraction; "
                          "two of them fix the state", fix="remove one of the three")
             ok = False
 
         molar_flow = mass_flow = None
         flow_keys = [k for k in ("flow", "molar_flow", "mass_flow") if k in table]
         if not flow_keys:
-            self.problem("flow-missing", key, f"feed stream {name!r} has no flow",
+            self.problem("flow-missing", key, f"{what} {name!r} has no flow",
                          fix='add flow = "2400 kmol/h" (molar) or flow = "12 t/h" (mass)')
             ok = False
         elif len(flow_keys) > 1:
             self.problem("flow-conflict", key + (flow_keys[1],),
-                         f"feed stream {name!r} gives its flow twice ({' and '.join(flow_keys)})",
+                         f"{what} {name!r} gives its flow twice ({' and '.join(flow_keys)})",
                          fix="keep one flow key")
             ok = False
         else:
             flow_key = flow_keys[0]
-            flow = self.flow(key + (flow_key,), table[flow_key], flow_key)
+            flow = self.flow(key + (flow_key,), table[flow_key], flow_key,
+                             "a loop estimate's flow" if is_estimate else "a feed's flow")
             if flow is None:
                 ok = False
             elif flow[0] == "molar_flow":
@@ -1009,14 +1036,15 @@ class _Validator:
             else:
                 mass_flow = flow[1]
 
-        composition = self.check_composition(key, name, table.get("composition"), user_names)
+        composition = self.check_composition(key, name, table.get("composition"), user_names, what)
         if composition is None or not ok:
             return None
         return FeedStream(name=name, temperature_K=temperature, pressure_Pa=pressure,
                           vapor_fraction=vapor_fraction, molar_flow_mol_s=molar_flow,
                           mass_flow_kg_s=mass_flow, composition=composition)
 
-    def flow(self, key_path: tuple, value: Any, flow_key: str) -> tuple[str, float] | None:
+    def flow(self, key_path: tuple, value: Any, flow_key: str,
+             what: str = "a feed's flow") -> tuple[str, float] | None:
         try:
             if flow_key == "flow":
                 kind, number = quantities.parse_flow(value)
@@ -1026,15 +1054,16 @@ class _Validator:
             self.quantity_problem(key_path, value, error)
             return None
         if number <= 0.0:
-            self.problem("out-of-range", key_path, f"{value!r}: a feed's flow must be above zero",
+            self.problem("out-of-range", key_path, f"{value!r}: {what} must be above zero",
                          fix="give the flow that enters, or remove the stream")
             return None
         return kind, number
 
-    def check_composition(self, key: tuple, name: str, raw: Any, user_names: tuple[str, ...]) -> dict[str, float] | None:
+    def check_composition(self, key: tuple, name: str, raw: Any, user_names: tuple[str, ...],
+                          what: str = "feed stream") -> dict[str, float] | None:
         ckey = key + ("composition",)
         if raw is None:
-            self.problem("composition-missing", key, f"feed stream {name!r} has no composition",
+            self.problem("composition-missing", key, f"{what} {name!r} has no composition",
                          fix="add composition = { methane = 0.9, ethane = 0.1 } (mole fractions)")
             return None
         if not isinstance(raw, dict) or not raw:
@@ -1234,9 +1263,11 @@ class _Validator:
     def check_topology(self, streams: Mapping[str, FeedStream], units: Mapping[str, UnitSpec]) -> None:
         connections = self.connections
         raw_streams = self.data.get("streams") if isinstance(self.data.get("streams"), dict) else {}
-        feeds = set(raw_streams)
+        feeds = {name for name, table in raw_streams.items() if not _is_estimate_table(table)}
+        estimates = set(raw_streams) - feeds
         producer: dict[str, str] = {}
         consumer: dict[str, str] = {}
+        fed_outlets: list[tuple[tuple, str, str]] = []  # (key path, stream, unit): reported once the loops are known
         for unit_name, roles in connections.items():
             for role, value in roles.items():
                 names = value if isinstance(value, tuple) else (value,)
@@ -1244,10 +1275,7 @@ class _Validator:
                     rkey = ("units", unit_name, role)
                     if role.endswith(("outlet", "outlets")):
                         if stream in feeds:
-                            self.problem("feed-is-outlet", rkey,
-                                         f"stream {stream!r} is a feed ([streams.{stream}]) and also the outlet of "
-                                         f"unit {unit_name!r}",
-                                         fix=f"rename the outlet, or remove [streams.{stream}] if the unit makes it")
+                            fed_outlets.append((rkey, stream, unit_name))
                         elif stream in producer and producer[stream] != unit_name:
                             self.problem("stream-two-sources", rkey,
                                          f"stream {stream!r} is the outlet of both {producer[stream]!r} and "
@@ -1260,6 +1288,16 @@ class _Validator:
                                          f"stream {stream!r} enters both {consumer[stream]!r} and {unit_name!r}",
                                          fix="a stream goes to one unit; to divide it use a splitter")
                         consumer.setdefault(stream, unit_name)
+        outlets = _outlets_by_unit(connections)
+        for rkey, stream, unit_name in fed_outlets:
+            fix = f"rename the outlet, or remove [streams.{stream}] if the unit makes it"
+            reader = consumer.get(stream)
+            if reader is not None and _leads_back(reader, unit_name, outlets, consumer):
+                fix += (f"; or, if {stream!r} is on a closed loop (nothing enters it) and the table gives the "
+                        f"circulating flow, add loop_estimate = true to [streams.{stream}]")
+            self.problem("feed-is-outlet", rkey,
+                         f"stream {stream!r} is a feed ([streams.{stream}]) and also the outlet of unit {unit_name!r}",
+                         fix=fix)
         for unit_name, roles in connections.items():
             ins = {s for role, v in roles.items() if not role.endswith(("outlet", "outlets"))
                    for s in (v if isinstance(v, tuple) else (v,))}
@@ -1273,7 +1311,7 @@ class _Validator:
                 if role.endswith(("outlet", "outlets")):
                     continue
                 for stream in value if isinstance(value, tuple) else (value,):
-                    if stream not in feeds and stream not in producer:
+                    if stream not in feeds and stream not in producer and stream not in estimates:
                         known = sorted(feeds | set(producer))
                         suggestion = _did_you_mean(stream, known)
                         self.problem("dangling-stream", ("units", unit_name, role),
@@ -1281,6 +1319,75 @@ class _Validator:
                                      "nor the outlet of a unit",
                                      fix=(_sentence(suggestion) + " " if suggestion else "")
                                      + f"Or define it as a feed under [streams.{stream}]")
+
+
+    def check_loop_estimates(self) -> None:
+        """Each loop_estimate stream must be written by a unit and lead, through
+        the units, back to that unit (it is a recycle's tear stream)."""
+        raw_streams = self.data.get("streams") if isinstance(self.data.get("streams"), dict) else {}
+        estimates = [name for name, table in raw_streams.items() if _is_estimate_table(table)]
+        if not estimates:
+            return
+        producer: dict[str, str] = {}
+        consumer: dict[str, str] = {}
+        for unit_name, roles in self.connections.items():
+            for role, value in roles.items():
+                for stream in value if isinstance(value, tuple) else (value,):
+                    if role.endswith(("outlet", "outlets")):
+                        producer.setdefault(stream, unit_name)
+                    else:
+                        consumer.setdefault(stream, unit_name)
+        outlets = _outlets_by_unit(self.connections)
+        for name in estimates:
+            key = ("streams", name, "loop_estimate")
+            writer = producer.get(name)
+            if writer is None:
+                self.problem("loop-estimate-not-an-outlet", key,
+                             f"stream {name!r} has loop_estimate = true, but no unit names it as its outlet: "
+                             "a loop estimate is a stream that a unit inside a recycle loop writes",
+                             fix=f"remove loop_estimate = true to make {name!r} a feed, or name {name!r} as the "
+                                 "outlet of a unit in the loop")
+                continue
+            reader = consumer.get(name)
+            if reader is None or not _leads_back(reader, writer, outlets, consumer):
+                where_to = (f"enters unit {reader!r}, from which no path of streams returns to {writer!r}"
+                            if reader is not None else "enters no unit")
+                self.problem("loop-estimate-not-on-loop", key,
+                             f"stream {name!r} has loop_estimate = true, but it is not on a recycle loop: it "
+                             f"leaves unit {writer!r} and {where_to}",
+                             fix=f"remove the [streams.{name}] table (unit {writer!r} gives {name!r} its state), "
+                                 "or connect the units so that the stream returns to the unit that writes it")
+
+
+def _is_estimate_table(table: Any) -> bool:
+    """A [streams.NAME] table meant as a loop estimate (loop_estimate written
+    and not false; a wrongly typed value is reported on its own)."""
+    return isinstance(table, dict) and "loop_estimate" in table and table["loop_estimate"] is not False
+
+
+def _outlets_by_unit(connections: Mapping[str, Mapping[str, Any]]) -> dict[str, list[str]]:
+    """Unit name -> the streams it writes, from the validator's connections."""
+    return {
+        unit_name: [stream for role, value in roles.items() if role.endswith(("outlet", "outlets"))
+                    for stream in (value if isinstance(value, tuple) else (value,))]
+        for unit_name, roles in connections.items()
+    }
+
+
+def _leads_back(start: str, target: str, outlets: Mapping[str, list[str]], consumer: Mapping[str, str]) -> bool:
+    """Whether a path of streams leads from unit ``start`` to unit ``target``."""
+    seen = {start}
+    work = [start]
+    while work:
+        unit_name = work.pop()
+        if unit_name == target:
+            return True
+        for stream in outlets.get(unit_name, ()):
+            nxt = consumer.get(stream)
+            if nxt is not None and nxt not in seen:
+                seen.add(nxt)
+                work.append(nxt)
+    return False
 
 
 def _library_name(name: str) -> str | None:

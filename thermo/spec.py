@@ -210,6 +210,33 @@ class FeedStream:
 
 
 @dataclass(frozen=True)
+class LoopEstimate:
+    """A ``[streams.NAME]`` table with ``loop_estimate = true``: a stream that a
+    unit inside a recycle loop writes, given a starting state. Fields and units
+    as ``FeedStream`` (SI; two of temperature_K, pressure_Pa and vapor_fraction,
+    one of molar_flow_mol_s and mass_flow_kg_s).
+
+    It is not a feed: the solver tears the loop at this stream and starts from
+    this state. On a closed loop (nothing enters it) its flow and composition
+    are the loop's circulating charge and stay as written; its temperature,
+    pressure and enthalpy come from the units. On a loop that is also fed from
+    outside it is only a starting estimate, and its flow is iterated too."""
+
+    name: str
+    temperature_K: float | None
+    pressure_Pa: float | None
+    vapor_fraction: float | None
+    molar_flow_mol_s: float | None
+    mass_flow_kg_s: float | None
+    composition: Mapping[str, float]
+
+    @property
+    def components(self) -> tuple[str, ...]:
+        """Component names in file order."""
+        return tuple(self.composition)
+
+
+@dataclass(frozen=True)
 class UnitSpec:
     """One unit: ``connections`` maps each role (inlet, outlet, inlets,
     outlets, hot_inlet, ...) to a stream name, or a tuple of names for
@@ -259,7 +286,9 @@ class UnitSpec:
 class Sheet:
     """A whole validated flowsheet, SI. ``units`` keeps file order.
     ``interaction`` maps sorted pairs of canonical component names to k_ij.
-    ``locations`` maps key paths to 1-based lines, for messages (see ``where``)."""
+    ``locations`` maps key paths to 1-based lines, for messages (see ``where``).
+    ``streams`` holds the feeds only; ``loop_estimates`` the streams written
+    with ``loop_estimate = true`` (unit outlets inside loops, see LoopEstimate)."""
 
     format: int
     title: str
@@ -273,6 +302,7 @@ class Sheet:
     units: Mapping[str, UnitSpec]
     path: str | None = None
     locations: Mapping[tuple, int] = field(default_factory=dict, compare=False, repr=False)
+    loop_estimates: Mapping[str, LoopEstimate] = field(default_factory=dict)
 
     def kij(self, first: str, second: str) -> float:
         """Binary interaction parameter of two canonical component names (0 if not given)."""
