@@ -581,20 +581,29 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
     # Second pass: the equilibrium state at each temperature, started from the
     # last split carried to the new temperature along its own d ln K / dT; where
     # two liquids can form, with the phases' own stability tested each time.
-    evaluate = _equilibrium_evaluator(kernel, pressure, za, kind, where, known, second_liquid_possible(kernel))
-    t, eq = _search_temperature(evaluate, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what)
-    eq = _third_phase(kernel, eq, where)
-    return _verified_target(_stream(model, t, pressure, z_full, active, eq), target, kind, tolerance, where)
+    multiphase = second_liquid_possible(kernel)
+    start = None
+    for _ in range(3):
+        evaluate = _equilibrium_evaluator(kernel, pressure, za, kind, where, known, multiphase, start)
+        t, eq = _search_temperature(evaluate, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what)
+        checked = _third_phase(kernel, eq, where)
+        if checked is eq:
+            break
+        # The answer's own phases proved unstable: search again from there with
+        # the multiphase equilibrium at every temperature.
+        multiphase, start, guess, known = True, checked.multi, t, {}
+    return _verified_target(_stream(model, t, pressure, z_full, active, checked), target, kind, tolerance, where)
 
 
-def _equilibrium_evaluator(kernel, pressure, za, kind, where, known, multiphase: bool):
+def _equilibrium_evaluator(kernel, pressure, za, kind, where, known, multiphase: bool,
+                           start_multi: MultiSplit | None = None):
     """evaluate(T) -> (H or S, its temperature derivative, equilibrium) at
     the equilibrium state. Two-phase splits start from the last one carried
     along d ln K/dT and give an analytic derivative; multiphase splits (when
     ``multiphase``) start from the last one and give a forward difference
     (the implicit derivative of a multiphase split is not worked out)."""
     last = [None]  # (T, split, d ln K/dT, d beta/dT) of the latest two-phase split
-    last_multi = [None]
+    last_multi = [start_multi]
     step = 1e-4  # K
 
     def two_phase(t):

@@ -121,8 +121,23 @@ def kernel_for(model: CubicModel, active: tuple[int, ...] | None = None) -> Cubi
     return kernel
 
 
+def _polish(z: float, c2: float, c1: float, c0: float) -> float:
+    """Two Newton steps on z^3 + c2 z^2 + c1 z + c0 (the closed forms are
+    already accurate to rounding except near a double root)."""
+    for _ in range(2):
+        df = (3.0 * z + 2.0 * c2) * z + c1
+        if df == 0.0:
+            break
+        step = (((z + c2) * z + c1) * z + c0) / df
+        z -= step
+        if abs(step) <= 1e-15 * abs(z):
+            break
+    return z
+
+
 def _cubic_roots(c2: float, c1: float, c0: float) -> tuple[float, ...]:
-    """Real roots of z^3 + c2 z^2 + c1 z + c0, ascending, Newton-polished."""
+    """The smallest and largest real roots of z^3 + c2 z^2 + c1 z + c0
+    (one value where there is one real root), Newton-polished."""
     shift = c2 / 3.0
     p = c1 - c2 * shift
     q = 2.0 * shift**3 - shift * c1 + c0
@@ -134,32 +149,16 @@ def _cubic_roots(c2: float, c1: float, c0: float) -> tuple[float, ...]:
         u = -half_q + root_disc
         v = -half_q - root_disc
         t = math.copysign(abs(u) ** (1.0 / 3.0), u) + math.copysign(abs(v) ** (1.0 / 3.0), v)
-        roots = (t - shift,)
-    elif third_p >= 0.0:
-        roots = (-shift,)
-    else:
-        r = math.sqrt(-third_p)
-        phi = math.acos(max(-1.0, min(1.0, -half_q / (r * r * r))))
-        two_r = 2.0 * r
-        roots = (
-            two_r * math.cos((phi + 2.0 * math.pi) / 3.0) - shift,
-            two_r * math.cos((phi + 4.0 * math.pi) / 3.0) - shift,
-            two_r * math.cos(phi / 3.0) - shift,
-        )
-        roots = tuple(sorted(roots))
-    polished = []
-    for z in roots:
-        for _ in range(4):
-            f = ((z + c2) * z + c1) * z + c0
-            df = (3.0 * z + 2.0 * c2) * z + c1
-            if df == 0.0:
-                break
-            step = f / df
-            z -= step
-            if abs(step) <= 1e-15 * abs(z):
-                break
-        polished.append(z)
-    return tuple(polished)
+        return (_polish(t - shift, c2, c1, c0),)
+    if third_p >= 0.0:
+        return (_polish(-shift, c2, c1, c0),)
+    r = math.sqrt(-third_p)
+    phi = math.acos(max(-1.0, min(1.0, -half_q / (r * r * r))))
+    two_r = 2.0 * r
+    # cos(phi/3) >= cos((phi - 2 pi)/3) >= cos((phi + 2 pi)/3) for phi in [0, pi]
+    largest = two_r * math.cos(phi / 3.0) - shift
+    smallest = two_r * math.cos((phi + 2.0 * math.pi) / 3.0) - shift
+    return (_polish(smallest, c2, c1, c0), _polish(largest, c2, c1, c0))
 
 
 class CubicAtTP:
