@@ -260,10 +260,11 @@ def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit 
     if eq.split is None and eq.multi is None:
         return eq
     phases = [eq.split.y, eq.split.x] if eq.split is not None else list(eq.multi.compositions)
+    has_vapor = eq.split is not None and not eq.split.props_y.liquid_like and LIQUID_LIQUID not in eq.notes
     k_wilson = wilson_k(kernel.tc, kernel.pc, kernel.omega, state.temperature, state.pressure)
     for _ in range(2):
         try:
-            stability = stability_test(state, phases[-1], k_wilson)
+            stability = stability_test(state, phases[-1], k_wilson, vapor_trial=not has_vapor)
         except StabilityError:
             return eq
         if stability.stable:

@@ -191,17 +191,22 @@ def second_liquid_possible(kernel) -> bool:
 
 
 def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,
-                   ln_phi_feed: np.ndarray | None = None) -> StabilityResult:
+                   ln_phi_feed: np.ndarray | None = None, vapor_trial: bool = True) -> StabilityResult:
     """Tangent-plane test of feed z (mole fractions over the kernel's active
     components, all positive) at the state's T and P, with trials seeded by
-    the K-values ``k_wilson``."""
+    the K-values ``k_wilson``. ``vapor_trial`` False leaves out the
+    vapor-like trial (testing a liquid already in equilibrium with a vapor,
+    that trial only finds the vapor again)."""
     ln_z = np.log(z)
     if ln_phi_feed is None:
         ln_phi_feed, _, _ = state.ln_phi(z)
     d = ln_z + ln_phi_feed
     ln_k = np.log(k_wilson)
-    vapor = _trial(state, z, ln_z, d, ln_z + ln_k, "vapor-like")
     liquid = _trial(state, z, ln_z, d, ln_z - ln_k, "liquid-like")
+    if vapor_trial:
+        vapor = _trial(state, z, ln_z, d, ln_z + ln_k, "vapor-like")
+    else:
+        vapor = TrialResult("vapor-like", z, 0.0, "skipped", 0)
     trials = (vapor, liquid)
     slow = any(t.outcome == "trivial" and t.iterations > SUBSTITUTION_STEPS // 2 for t in trials)
     unstable_vapor = vapor.outcome == "unstable"
