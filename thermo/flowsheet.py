@@ -9,13 +9,21 @@ Solve order: units may appear in any order in the file. Units are joined by
 the streams between them; strongly connected groups (recycle loops) are found
 (Tarjan) and the groups solved in topological order, file order breaking
 ties. Inside a loop, a depth-first walk from the unit where outside material
-enters picks the tear streams (the walk's back edges) and the order.
+enters picks the tear streams (the walk's back edges) and the order; a
+stream written with ``loop_estimate = true`` is always torn, and the walk
+then tears only what else it needs.
 
 Recycles: each tear stream is held as (molar enthalpy, pressure, component
 molar flows) and converged by bounded Wegstein acceleration (Wegstein, Comm.
 ACM 1 (1958) 9), q bounded to [-5, 0], direct substitution for the first
 two passes, to a relative change of 1e-9 (enthalpy scaled by max(|h|, R T),
 flows by the stream's total flow), within ``MAX_RECYCLE_ITERATIONS`` passes.
+
+Closed loops: a loop that nothing enters (a refrigeration circuit) has no
+mass balance to fix its flow, so it needs a ``loop_estimate`` stream; its
+component flows (the circulating charge) are held as written, and only its
+enthalpy and pressure are iterated. On a loop that is fed from outside, a
+``loop_estimate`` stream is only the tear's starting state.
 """
 
 from __future__ import annotations
@@ -52,7 +60,7 @@ from .results import (
     UnitResult,
     Violation,
 )
-from .spec import Sheet, UnitSpec
+from .spec import FeedStream, LoopEstimate, Sheet, UnitSpec
 
 MAX_RECYCLE_ITERATIONS = 100
 RECYCLE_TOLERANCE = 1e-9
@@ -127,9 +135,10 @@ def _interaction_library() -> dict[str, dict[tuple[str, str], float]]:
 
 
 def sheet_component_names(sheet: Sheet) -> tuple[str, ...]:
-    """Every component the sheet's feeds use, in order of first appearance."""
+    """Every component the sheet's feeds and loop estimates use, in order of
+    first appearance (feeds first)."""
     names: list[str] = []
-    for feed in sheet.streams.values():
+    for feed in (*sheet.streams.values(), *sheet.loop_estimates.values()):
         for name in feed.composition:
             if name not in names:
                 names.append(name)
@@ -258,6 +267,32 @@ def check_connections(sheet: Sheet) -> list[SolveError]:
     return errors
 
 
+def check_loop_estimates(sheet: Sheet, plan: Plan) -> list[SolveError]:
+    """What is wrong with the sheet's loop_estimate streams (empty if nothing):
+    each must be a unit's outlet on a recycle loop (``plan`` then tears it),
+    and not a feed as well."""
+    errors: list[SolveError] = []
+    for name in sheet.loop_estimates:
+        where = ("streams", name, "loop_estimate")
+        writer = sheet.producer_of(name)
+        if name in sheet.streams:
+            errors.append(_error(sheet, "loop-estimate-is-feed",
+                                 f"stream {name!r} is given both as a feed and as a loop estimate",
+                                 "keep one of the two", *where))
+        elif writer is None:
+            errors.append(_error(sheet, "loop-estimate-not-an-outlet",
+                                 f"stream {name!r} has loop_estimate = true, but no unit names it as its outlet",
+                                 f"remove loop_estimate = true to make {name!r} a feed, or name it as the outlet "
+                                 "of a unit in the loop", *where))
+        elif name not in plan.tears:
+            errors.append(_error(sheet, "loop-estimate-not-on-loop",
+                                 f"stream {name!r} has loop_estimate = true, but it is not on a recycle loop "
+                                 f"(unit {writer!r} writes it and no path of streams leads back to that unit)",
+                                 f"remove the [streams.{name}] table: unit {writer!r} gives the stream its state",
+                                 *where))
+    return errors
+
+
 def plan_solve(sheet: Sheet) -> Plan:
     """The order to solve the (well-connected) sheet's units in, with the
     tear streams of each recycle loop."""
@@ -348,9 +383,18 @@ def _order_group(sheet: Sheet, members: list[str], successors, position) -> Grou
         name for name in members
         if any(producer.get(s) not in inside for s in sheet.units[name].inlet_streams)
     ]
-    start = min(entries or members, key=lambda name: position[name])
+    # A loop_estimate stream is torn whatever the walk would pick: that is
+    # where the engineer gave a state (and, on a closed loop, the flow).
+    estimated = [s for s in sheet.loop_estimates
+                 if producer.get(s) in inside and sheet.consumer_of(s) in inside]
+    if entries:
+        start = min(entries, key=lambda name: position[name])
+    elif estimated:
+        start = sheet.consumer_of(estimated[0])
+    else:
+        start = min(members, key=lambda name: position[name])
     postorder: list[str] = []
-    tears: list[str] = []
+    tears: list[str] = list(estimated)
     state: dict[str, int] = {}  # 1 on the walk's path, 2 finished
 
     def walk_from(root: str) -> None:
@@ -359,7 +403,7 @@ def _order_group(sheet: Sheet, members: list[str], successors, position) -> Grou
         while work:
             node, edges = work[-1]
             for target, stream in edges:
-                if target not in inside:
+                if target not in inside or stream in estimated:
                     continue
                 if state.get(target) == 1:
                     tears.append(stream)
@@ -395,10 +439,17 @@ class _Run:
     errors: list[SolveError]
     ports: dict[str, tuple[tuple[str, ...], tuple[str, ...]]]  # unit -> (inlet streams, outlet streams)
     iterations: int = 0
+    estimates: dict[str, Flow] = dataclasses.field(default_factory=dict)  # loop_estimate streams as written
 
 
-def _feed_state(run: _Run, name: str):
-    feed = run.sheet.streams[name]
+def _feed_state(run: _Run, name: str) -> Flow:
+    return _written_state(run, run.sheet.streams[name], "feed")
+
+
+def _written_state(run: _Run, feed: FeedStream | LoopEstimate, what: str) -> Flow:
+    """The flow of a stream given by a [streams.NAME] table (``what`` names it
+    in messages)."""
+    name = feed.name
     mixture = run.mixture
     x = mixture.composition(dict(feed.composition))
     x = x / x.sum()
@@ -411,18 +462,18 @@ def _feed_state(run: _Run, name: str):
         if fn is None:
             raise _Refused([_error(run.sheet, "flash-unavailable",
                                    "this version of the flash cannot fix a vapor fraction yet",
-                                   "give the feed a temperature and a pressure", *where, "vapor_fraction")])
+                                   f"give the {what} a temperature and a pressure", *where, "vapor_fraction")])
         state = fn(run.model, feed.pressure_Pa if by_pressure else feed.temperature_K, feed.vapor_fraction, x)
     else:
         raise _Refused([_error(run.sheet, "feed-underspecified",
-                               f"feed {name!r} needs two of temperature, pressure and vapor_fraction",
+                               f"{what} {name!r} needs two of temperature, pressure and vapor_fraction",
                                "give temperature and pressure (or vapor_fraction with one of them)", *where)])
     if feed.molar_flow_mol_s is not None:
         flow = feed.molar_flow_mol_s
     elif feed.mass_flow_kg_s is not None:
         flow = feed.mass_flow_kg_s / float(x @ mixture.molar_mass)
     else:
-        raise _Refused([_error(run.sheet, "feed-underspecified", f"feed {name!r} has no flow",
+        raise _Refused([_error(run.sheet, "feed-underspecified", f"{what} {name!r} has no flow",
                                'give flow = "100 kmol/h" (molar) or "2 kg/s" (mass)', *where)])
     return Flow(state, float(flow))
 
@@ -496,30 +547,80 @@ def _unpack(run: _Run, values: np.ndarray, like: Flow) -> Flow:
 
 
 def _initial_guess(run: _Run, group: Group, stream: str) -> Flow:
-    """A start for tear ``stream``: the state of a known inlet of the unit it
-    enters (else of the first stream entering the loop from outside), with
+    """A start for tear ``stream``: its loop_estimate table if it has one, else
+    the state of a known inlet of the unit it enters (else of the first stream
+    entering the loop from outside, else of the loop's estimate stream), with
     that stream's flow."""
     sheet = run.sheet
+    if stream in run.estimates:
+        return run.estimates[stream]
     consumer = next(u for u in group.units if stream in sheet.units[u].inlet_streams)
-    candidates = [s for s in sheet.units[consumer].inlet_streams if s in run.flows and s not in group.tears]
+
+    def known(name: str) -> bool:
+        return name in run.flows and (name not in group.tears or name in run.estimates)
+
+    candidates = [s for s in sheet.units[consumer].inlet_streams if known(s)]
     if not candidates:
-        outside = [s for u in group.units for s in sheet.units[u].inlet_streams
-                   if s in run.flows and s not in group.tears]
-        candidates = outside
+        candidates = [s for u in group.units for s in sheet.units[u].inlet_streams if known(s)]
     if not candidates:
         raise _Refused([_error(sheet, "loop-without-feed",
                                f"the recycle loop through units {', '.join(group.units)} has no stream entering it from outside",
-                               "feed the loop from a [streams.NAME] table or from a unit outside it",
+                               "feed the loop from a [streams.NAME] table or from a unit outside it; or, for a closed "
+                               "loop such as a refrigeration circuit, give one stream that a unit of the loop writes "
+                               "a [streams.NAME] table with loop_estimate = true, the circulating flow, the "
+                               "composition and an estimate of its state (temperature and pressure)",
                                "units", consumer)])
     return run.flows[candidates[0]]
 
 
+def _is_closed(run: _Run, group: Group) -> bool:
+    """Whether nothing enters the loop ``group`` from outside."""
+    produced = {s for u in group.units for s in run.ports[u][1]}
+    return all(s in produced for u in group.units for s in run.ports[u][0])
+
+
+def _held_entries(run: _Run, group: Group, sizes: list[int]) -> np.ndarray:
+    """Mask of the packed tear values held as written: the component flows of
+    the loop_estimate tears of a closed loop (its circulating charge)."""
+    held = np.zeros(sum(sizes), dtype=bool)
+    if not _is_closed(run, group):
+        return held
+    offset = 0
+    for s, size in zip(group.tears, sizes):
+        if s in run.estimates:
+            held[offset + 2:offset + size] = True
+        offset += size
+    return held
+
+
+def _charge_not_returned(run: _Run, group: Group, sizes: list[int], x: np.ndarray, g: np.ndarray,
+                         scale: np.ndarray, held: np.ndarray) -> SolveError:
+    offset = 0
+    for s, size in zip(group.tears, sizes):
+        part = slice(offset + 2, offset + size)
+        offset += size
+        if held[part].any() and np.max(np.abs(g[part] - x[part]) / scale[part]) > RECYCLE_TOLERANCE:
+            break
+    written, returned = float(x[part].sum()), float(g[part].sum())
+    return _error(
+        run.sheet, "closed-loop-charge-not-returned",
+        f"the closed loop through units {', '.join(group.units)} returns {returned:.6g} mol/s "
+        f"to stream {s!r}, not the {written:.6g} mol/s (or not the composition) written in its "
+        "loop_estimate table: material leaves the loop and nothing enters it",
+        "a closed loop must return everything it circulates: send every outlet of its units back into the loop, "
+        "or feed the loop from a [streams.NAME] table (its make-up), which makes the loop_estimate stream only "
+        "a starting state", "streams", s, "loop_estimate")
+
+
 def _converge(run: _Run, group: Group) -> None:
-    """Solve a recycle loop by bounded Wegstein iteration on its tear streams."""
-    guesses = {s: _initial_guess(run, group, s) for s in group.tears}
-    for s, flow in guesses.items():
-        run.flows[s] = flow
+    """Solve a recycle loop by bounded Wegstein iteration on its tear streams
+    (a closed loop's loop_estimate flows held as written)."""
+    for s in sorted(group.tears, key=lambda name: name not in run.estimates):  # estimates first: others may start from them
+        run.flows[s] = _initial_guess(run, group, s)
     x = np.concatenate([_pack(run.flows[s]) for s in group.tears])
+    sizes = [2 + len(run.flows[s].state.composition) for s in group.tears]
+    held = _held_entries(run, group, sizes)
+    held_values = x[held]
     lower_bounds = np.concatenate([
         [WEGSTEIN_FLOW_BOUNDS[0], WEGSTEIN_BOUNDS[0]] + [WEGSTEIN_FLOW_BOUNDS[0]] * len(run.flows[s].state.composition)
         for s in group.tears
@@ -533,9 +634,12 @@ def _converge(run: _Run, group: Group) -> None:
         computed = [run.flows[s] for s in group.tears]
         g = np.concatenate([_pack(f) for f in computed])
         scale = np.concatenate([_scales(f) for f in computed])
-        mismatch = float(np.max(np.abs(g - x) / scale))
+        relative = np.abs(g - x) / scale
+        mismatch = float(np.max(relative))
         if mismatch <= RECYCLE_TOLERANCE:
             return
+        if held.any() and float(np.max(relative[~held], initial=0.0)) <= RECYCLE_TOLERANCE:
+            raise _Refused([_charge_not_returned(run, group, sizes, x, g, scale, held)])
         if iteration <= DIRECT_SUBSTITUTION_PASSES or x_old is None:
             x_new = g
         else:
@@ -548,6 +652,7 @@ def _converge(run: _Run, group: Group) -> None:
             x_new = q * x + (1.0 - q) * g
         x_old, g_old = x, g
         x = np.array(x_new, dtype=float)
+        x[held] = held_values
         offset = 0
         for s, flow in zip(group.tears, computed):
             part = slice(offset, offset + 2 + len(flow.state.composition))
@@ -614,7 +719,8 @@ def _stream_results(run: _Run) -> dict[str, StreamResult]:
         if flow is None:
             continue
         mass = flow.molar_flow * float(flow.state.composition @ run.mixture.molar_mass)
-        results[name] = StreamResult(name, flow.state, flow.molar_flow, mass, name in sheet.streams, producer.get(name))
+        results[name] = StreamResult(name, flow.state, flow.molar_flow, mass, name in sheet.streams, producer.get(name),
+                                     loop_estimate=name in sheet.loop_estimates)
     return results
 
 
@@ -669,11 +775,24 @@ def _solve(sheet: Sheet) -> SheetResult:
                                      "check its temperature, pressure and composition", "streams", name))
 
     plan = plan_solve(sheet)
+    estimate_errors = check_loop_estimates(sheet, plan)
+    if estimate_errors:
+        raise _Refused(run.errors + estimate_errors)
+    for name, estimate in sheet.loop_estimates.items():
+        try:
+            run.estimates[name] = _written_state(run, estimate, "loop estimate")
+        except _Refused as refused:
+            run.errors.extend(refused.errors)
+        except (flash.FlashError, StateInputError) as error:
+            run.errors.append(_error(sheet, "no-estimate-state",
+                                     f"loop estimate {name!r}: its state cannot be found: {error}",
+                                     "check its temperature, pressure and composition", "streams", name))
     skipped: list[str] = []
     for group in plan.groups:
         needed = {s for u in group.units for s in ports[u][0]} - set(group.tears)
         produced_inside = {s for u in group.units for s in ports[u][1]}
-        if any(s not in run.flows and s not in produced_inside for s in needed):
+        lost_estimate = any(s in sheet.loop_estimates and s not in run.estimates for s in group.tears)
+        if lost_estimate or any(s not in run.flows and s not in produced_inside for s in needed):
             skipped.extend(group.units)
             continue
         try:

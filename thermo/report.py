@@ -8,7 +8,9 @@ top level
     "solve_order": unit names in the order they were solved
     "recycle": {"tear_streams": [...], "iterations": n}
 each stream
-    "is_feed", "source_unit" (null for a feed), "compressibility",
+    "is_feed", "source_unit" (null for a feed), "loop_estimate" (true for a
+    stream written with loop_estimate = true: not a feed, a loop's tear
+    stream given a starting state), "compressibility",
     "molar_volume_m3_mol", "notes" (the engine's remarks on the state), and
     "phases" when there are two: [{"phase", "fraction", "composition"}]
 each unit
@@ -88,6 +90,7 @@ def stream_to_json(stream: StreamResult, component_names) -> dict:
         "composition": _composition(component_names, state.composition),
         "is_feed": stream.is_feed,
         "source_unit": stream.source_unit,
+        "loop_estimate": stream.loop_estimate,
         "compressibility": _number(state.compressibility),
         "molar_volume_m3_mol": _number(state.molar_volume),
         "notes": list(state.notes),

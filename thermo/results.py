@@ -60,6 +60,7 @@ class StreamResult:
     mass_flow: float  # kg/s
     is_feed: bool
     source_unit: str | None = None  # unit that writes it, None for a feed
+    loop_estimate: bool = False  # written with loop_estimate = true: a loop's tear, given a starting state
 
 
 @dataclass(frozen=True)
