@@ -52,8 +52,9 @@ def number(value_SI: float | None, kind: str, system: str, significant: int = 5)
 
 
 def cell(text: str, entered: bool, style: str = "") -> Text:
-    """``[text]`` when entered, `` text `` otherwise, right-aligned."""
-    shown = f"[{text}]" if entered else f" {text} "
+    """``[text]`` when entered, ``text `` otherwise: right-aligned in a column,
+    the digits of both line up."""
+    shown = f"[{text}]" if entered else f"{text} "
     return Text(shown, style=("bold " + style).strip() if entered else style, justify="right")
 
 
@@ -136,6 +137,12 @@ def flag_summary(flags: list, *, short: bool = False) -> Text:
                                                  "warning": "warn", "notice": "note"}[level]
         text.append(label + (f"\u00d7{count}" if count > 1 else ""), style=LEVEL_STYLES[level])
     return text
+
+
+def flag_variants(flags: list) -> tuple[Text, Text]:
+    """The flag summary spelled out and shortened (``✖ violation``, ``✖ viol``),
+    for a table that picks what fits; both keep symbol and word."""
+    return flag_summary(flags), flag_summary(flags, short=True)
 
 
 def flag_line(flag) -> Text:

@@ -20,6 +20,7 @@ from thermo.quantities import display_units
 
 from .cells import flag_line, flags_by_place, number
 from .field_editor import FieldEditor
+from .fitted_table import Column, FittedTable
 from .fields import Field, marked, sheet_fields, stream_fields, unit_fields
 
 STEP_WORDS = {
@@ -29,11 +30,20 @@ STEP_WORDS = {
 }
 
 
-class FieldList(DataTable):
-    """The fields of the selection; enter or e edits, x clears a written one."""
+FIELD_COLUMNS = (
+    Column("field", "field", shrink=3, min_width=10),
+    Column("entered", "entered", shrink=2, min_width=10),
+    Column("computed", "computed", shrink=4, min_width=10),
+    Column("note", "", shrink=1, min_width=0),
+)
+
+
+class FieldList(FittedTable):
+    """The fields of the selection; enter or e edits (the screen's keys, so
+    that the editor has the focus before the next key is read), x clears a
+    written one."""
 
     BINDINGS = [
-        Binding("e", "edit_field", "Edit", show=True),
         Binding("x,delete", "clear_field", "Clear", show=True),
     ]
 
@@ -48,24 +58,22 @@ class FieldList(DataTable):
             super().__init__()
 
     def __init__(self, **options) -> None:
-        super().__init__(cursor_type="row", **options)
+        super().__init__(header_height=1, **options)
         self.fields: list[Field] = []
 
     def show(self, fields: list[Field]) -> None:
-        keep = self.cursor_row
-        self.clear(columns=True)
-        self.add_column("field", key="field")
-        self.add_column("entered", key="entered")
-        self.add_column("computed", key="computed")
-        self.add_column("", key="note")
+        keep, before = self.cursor_row, self.current_key
         self.fields = fields
+        rows = []
         for index, field in enumerate(fields):
             entered = Text(marked(field.entered) if (field.entered is not None or field.editable) else "",
                            style="bold" if field.entered is not None else "dim")
             label = Text(field.label, style="" if field.editable else "dim")
-            self.add_row(label, entered, Text(field.computed or ""), Text(field.note, style="dim italic"),
-                         key=str(index))
-        if fields:
+            rows.append((f"{index}:{field.label}", [label, entered, Text(field.computed or ""),
+                                                     Text(field.note, style="dim italic")]))
+        self.fill(FIELD_COLUMNS, rows)
+        if fields and before not in {key for key, _ in rows}:
+            # Another selection: the cursor stays on the same line where it can.
             self.move_cursor(row=min(keep or 0, len(fields) - 1), animate=False)
 
     @property
@@ -93,7 +101,7 @@ class FieldList(DataTable):
             self.post_message(self.ClearWanted(field))
 
     def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
-        event.stop()
+        event.stop()  # enter is the screen's key (it opens the editor at once); a click lands here
         self.action_edit_field()
 
 
@@ -144,8 +152,8 @@ class DetailPane(Vertical):
                 origin = "feed"
             title.update(Text.assemble(("\u25b8 stream ", "dim"), (name or "", "bold"), f"  {origin}",
                                        (stale_word, "yellow")))
+            parts.extend(self._flags(places.get(name, [])))  # first: on a short terminal the rest may be cut
             parts.extend(self._stream_path(stream, result, system))
-            parts.extend(self._flags(places.get(name, [])))
             if stream is not None and stream.state.notes:
                 parts.append(Text("notes", style="bold underline"))
                 parts.extend(Text(f"\u00b7 {note}") for note in stream.state.notes)
@@ -154,8 +162,8 @@ class DetailPane(Vertical):
             fields = unit_fields(document, name, unit, system)
             title.update(Text.assemble(("\u25b8 unit ", "dim"), (name or "", "bold"),
                                        f"  {unit.type if unit else ''}", (stale_word, "yellow")))
-            parts.extend(self._unit_path(unit, system))
             parts.extend(self._flags(places.get(name, [])))
+            parts.extend(self._unit_path(unit, system))
             if unit is not None and unit.notes:
                 parts.append(Text("notes", style="bold underline"))
                 parts.extend(Text(f"\u00b7 {note}") for note in unit.notes)

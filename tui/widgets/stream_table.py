@@ -8,14 +8,50 @@ from rich.text import Text
 from textual.message import Message
 from textual.widgets import DataTable
 
-from thermo.quantities import display_units
+from thermo.quantities import display_units, format_number
 
-from .cells import cell, entered_quantities, flag_summary, flags_by_place, number
+from .cells import cell, entered_quantities, flag_variants, flags_by_place, number
+from .fitted_table import Column, FittedTable
 
-PHASE_WORDS = {"vapor": "vapor", "liquid": "liquid", "two-phase": "2-phase", "supercritical": "supercrit"}
+# The phase word spelled out, and shortened for a narrow terminal.
+PHASE_WORDS = {
+    "vapor": ("vapor", "vapor"),
+    "liquid": ("liquid", "liquid"),
+    "supercritical": ("supercritical", "supercrit."),
+    "two-phase": ("two-phase", "2\u03c6"),
+}
+# An entered vapor fraction beside a one-phase word: "liquid [0.00]", "liq [0.00]".
+SHORT_WITH_FRACTION = {"vapor": "vap", "liquid": "liq", "supercritical": "supercrit."}
 
 
-class StreamTable(DataTable):
+def phase_cell(phase: str, vapor_fraction: float, entered: bool) -> tuple[Text, Text]:
+    """The phase column: the phase word, with the vapor fraction where it
+    says something (two-phase, or written in the file: then in brackets)."""
+    full, short = PHASE_WORDS.get(phase, (phase, phase))
+    fraction = format_number(vapor_fraction, significant=3, max_decimals=3)
+    if entered:
+        mark = f"[{fraction}]"
+        short = short if phase == "two-phase" else SHORT_WITH_FRACTION.get(phase, short)
+        return Text(f"{full} {mark}", style="bold"), Text(f"{short} {mark}", style="bold")
+    if phase == "two-phase":
+        return Text(f"{full} {fraction}"), Text(f"{short} {fraction}")
+    return Text(full), Text(short)
+
+
+def stream_columns(system: str) -> tuple[Column, ...]:
+    return (
+        Column("name", "stream", shrink=1, min_width=8),
+        Column("T", "T", display_units("temperature", system), right=True),
+        Column("P", "P", display_units("pressure", system), right=True),
+        Column("flow", "flow", display_units("molar_flow", system), right=True),
+        Column("phase", "phase", "vap. frac"),
+        Column("H", "H", display_units("molar_energy", system), right=True),
+        Column("S", "S", display_units("molar_entropy", system), right=True),
+        Column("flags", "flags"),
+    )
+
+
+class StreamTable(FittedTable):
     """Streams of the solved sheet. Posts ``Picked`` when the cursor lands on
     a stream and ``Opened`` when one is chosen with enter."""
 
@@ -29,59 +65,34 @@ class StreamTable(DataTable):
             self.name = name
             super().__init__()
 
-    def __init__(self, **options) -> None:
-        super().__init__(cursor_type="row", zebra_stripes=False, **options)
-        self.fixed_columns = 1
-        self._names: list[str] = []
-
     def show(self, result, document: Mapping, system: str) -> None:
         """Fill the table from ``result`` (a SheetResult or None) keeping the
         cursor on the same stream where it still exists."""
-        current = self.current_name
-        self.clear(columns=True)
-        self.add_column("stream", key="name")
-        self.add_column(Text(f"T {display_units('temperature', system)}", justify="right"), key="T")
-        self.add_column(Text(f"P {display_units('pressure', system)}", justify="right"), key="P")
-        self.add_column(Text(f"flow {display_units('molar_flow', system)}", justify="right"), key="flow")
-        self.add_column("vap.frac phase", key="phase")
-        self.add_column(Text(f"H {display_units('molar_energy', system)}", justify="right"), key="H")
-        self.add_column(Text(f"S {display_units('molar_entropy', system)}", justify="right"), key="S")
-        self.add_column("flags", key="flags")
-        self._names = []
-        if result is None:
-            return
-        pinned = entered_quantities(document)
-        places = flags_by_place(result)
-        for name, stream in result.streams.items():
-            state = stream.state
-            fixed = pinned.get(name, set())
-            phase = PHASE_WORDS.get(state.phase, state.phase)
-            fraction = f"{state.vapor_fraction:.3f}"
-            fraction_cell = f"[{fraction}]" if "vapor_fraction" in fixed else f" {fraction} "
-            self.add_row(
-                Text(name, style="bold" if stream.is_feed else ""),
-                cell(number(state.temperature, "temperature", system), "temperature" in fixed),
-                cell(number(state.pressure, "pressure", system), "pressure" in fixed),
-                cell(number(stream.molar_flow, "molar_flow", system), "flow" in fixed),
-                Text(f"{fraction_cell} {phase}"),
-                cell(number(state.enthalpy, "molar_energy", system, 6), False),
-                cell(number(state.entropy, "molar_entropy", system), False),
-                flag_summary(places.get(name, []), short=True),
-                key=name,
-            )
-            self._names.append(name)
-        if current in self._names:
-            self.move_cursor(row=self._names.index(current), animate=False)
+        rows = []
+        if result is not None:
+            pinned = entered_quantities(document)
+            places = flags_by_place(result)
+            for name, stream in result.streams.items():
+                state = stream.state
+                fixed = pinned.get(name, set())
+                rows.append((name, [
+                    Text(name, style="bold" if stream.is_feed else ""),
+                    cell(number(state.temperature, "temperature", system), "temperature" in fixed),
+                    cell(number(state.pressure, "pressure", system), "pressure" in fixed),
+                    cell(number(stream.molar_flow, "molar_flow", system), "flow" in fixed),
+                    phase_cell(state.phase, state.vapor_fraction, "vapor_fraction" in fixed),
+                    Text(number(state.enthalpy, "molar_energy", system, 6)),
+                    Text(number(state.entropy, "molar_entropy", system)),
+                    flag_variants(places.get(name, [])),
+                ]))
+        self.fill(stream_columns(system), rows)
 
     @property
     def current_name(self) -> str | None:
-        if not self._names or self.cursor_row is None or not 0 <= self.cursor_row < len(self._names):
-            return None
-        return self._names[self.cursor_row]
+        return self.current_key
 
     def select_name(self, name: str) -> None:
-        if name in self._names:
-            self.move_cursor(row=self._names.index(name), animate=False)
+        self.move_to_key(name)
 
     def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
         event.stop()

@@ -10,10 +10,23 @@ from textual.widgets import DataTable
 
 from thermo.quantities import display_units
 
-from .cells import cell, flag_summary, flags_by_place, number
+from .cells import cell, flag_variants, flags_by_place, number
+from .fitted_table import Column, FittedTable
 
 
-class UnitTable(DataTable):
+def unit_columns(system: str) -> tuple[Column, ...]:
+    power = display_units("power", system)
+    return (
+        Column("name", "unit", shrink=1, min_width=8),
+        Column("type", "type"),
+        Column("energy", "duty/power", power, right=True),
+        Column("sgen", "S gen", display_units("entropy_rate", system), right=True),
+        Column("lost", "lost work", power, right=True),
+        Column("flags", "flags"),
+    )
+
+
+class UnitTable(FittedTable):
     """Units of the solved sheet, in the file's order. Posts ``Picked`` and
     ``Opened`` like ``StreamTable``."""
 
@@ -27,59 +40,39 @@ class UnitTable(DataTable):
             self.name = name
             super().__init__()
 
-    def __init__(self, **options) -> None:
-        super().__init__(cursor_type="row", **options)
-        self.fixed_columns = 1
-        self._names: list[str] = []
-
     def show(self, result, document: Mapping, system: str) -> None:
         """Fill from ``result``; units the file holds but the solve did not
         reach are listed with dashes."""
-        current = self.current_name
-        self.clear(columns=True)
-        power = display_units("power", system)
-        self.add_column("unit", key="name")
-        self.add_column("type", key="type")
-        self.add_column(Text(f"duty/power {power}", justify="right"), key="energy")
-        self.add_column(Text(f"S gen {display_units('entropy_rate', system)}", justify="right"), key="sgen")
-        self.add_column(Text(f"lost {power}", justify="right"), key="lost")
-        self.add_column("flags", key="flags")
-        self._names = []
         written = document.get("units") if isinstance(document.get("units"), Mapping) else {}
         places = flags_by_place(result)
         solved = result.units if result is not None else {}
         names = list(written) + [n for n in solved if n not in written]
+        rows = []
         for name in names:
             unit = solved.get(name)
             table = written.get(name) if isinstance(written.get(name), Mapping) else {}
             type_name = unit.type if unit is not None else str(table.get("type", "?"))
             if unit is None:
-                self.add_row(Text(name), type_name, "\u2014", "\u2014", "\u2014", Text("\u2026 not solved"), key=name)
-            else:
-                energy = unit.power_W if unit.power_W is not None else unit.duty_W
-                entered = "duty" in table and unit.duty_W is not None and unit.power_W is None
-                self.add_row(
-                    Text(name, style="bold"),
-                    type_name,
-                    cell(number(energy, "power", system), entered),
-                    cell(number(unit.entropy_generation_W_K, "entropy_rate", system), False),
-                    cell(number(unit.lost_work_W, "power", system), False),
-                    flag_summary(places.get(name, []), short=True),
-                    key=name,
-                )
-            self._names.append(name)
-        if current in self._names:
-            self.move_cursor(row=self._names.index(current), animate=False)
+                rows.append((name, [Text(name), type_name, "\u2014 ", "\u2014 ", "\u2014 ", Text("\u2026 not solved")]))
+                continue
+            energy = unit.power_W if unit.power_W is not None else unit.duty_W
+            entered = "duty" in table and unit.duty_W is not None and unit.power_W is None
+            rows.append((name, [
+                Text(name, style="bold"),
+                type_name,
+                cell(number(energy, "power", system), entered),
+                Text(number(unit.entropy_generation_W_K, "entropy_rate", system)),
+                Text(number(unit.lost_work_W, "power", system)),
+                flag_variants(places.get(name, [])),
+            ]))
+        self.fill(unit_columns(system), rows)
 
     @property
     def current_name(self) -> str | None:
-        if not self._names or self.cursor_row is None or not 0 <= self.cursor_row < len(self._names):
-            return None
-        return self._names[self.cursor_row]
+        return self.current_key
 
     def select_name(self, name: str) -> None:
-        if name in self._names:
-            self.move_cursor(row=self._names.index(name), animate=False)
+        self.move_to_key(name)
 
     def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
         event.stop()
