@@ -41,7 +41,7 @@ def test_numbers_lists_and_tables():
 
 def test_entered_values_are_bracketed_and_computed_ones_are_not():
     assert marked("68 barg") == "[68 barg]" and marked(None) == "\u2014"
-    assert cell("35.00", True).plain == "[35.00]" and cell("11.1", False).plain == " 11.1 "
+    assert cell("35.00", True).plain == "[35.00]" and cell("11.1", False).plain == "11.1 "
     pinned = entered_quantities(DOCUMENT)
     assert pinned["feed"] == {"temperature", "pressure", "flow"} and pinned["hot"] == {"temperature"}
 

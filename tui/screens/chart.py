@@ -7,11 +7,12 @@ from textual.binding import Binding
 from textual.screen import Screen
 from textual.widgets import Footer, Static
 
+from tui.screens.key_order import KeysFirst
 from tui.chart import CHART_TITLES, PRESSURE_ENTHALPY, TEMPERATURE_ENTROPY
 from tui.widgets.chart_view import ChartView
 
 
-class ChartScreen(Screen[None]):
+class ChartScreen(KeysFirst, Screen[None]):
     """Shows the chart the app hands it; t switches P-H and T-S."""
 
     BINDINGS = [

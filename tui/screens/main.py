@@ -4,6 +4,7 @@ title line (tab moves between them)."""
 
 from __future__ import annotations
 
+import asyncio
 from typing import Mapping
 
 from rich.text import Text
@@ -12,9 +13,10 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.screen import Screen
-from textual.widgets import Footer, Static
+from textual.widgets import DataTable, Footer, Static
 
 from thermo.spec import UNIT_TYPES
+from tui.screens.key_order import KeysFirst
 from tui.widgets.banner import Banner
 from tui.widgets.detail_pane import DetailPane, FieldList
 from tui.widgets.field_editor import FieldEditor
@@ -23,30 +25,47 @@ from tui.widgets.stream_table import StreamTable
 from tui.widgets.unit_table import UnitTable
 
 PANES = ("streams", "units", "detail")
+# Keys that move a table's cursor -> the DataTable action that does it.
+TABLE_MOVES = {"up": "cursor_up", "down": "cursor_down", "pageup": "page_up", "pagedown": "page_down",
+               "home": "scroll_top", "end": "scroll_bottom", "ctrl+home": "scroll_top", "ctrl+end": "scroll_bottom"}
 NARROW_WIDTH = 100  # columns below which one pane is open at a time
 SHORT_HEIGHT = 30  # rows below which, likewise
 
 
-class MainScreen(Screen[None]):
+async def caught_up(widget, timeout: float = 0.5) -> None:
+    """Wait until ``widget`` has handled the messages (keys) already sent to it."""
+    done = asyncio.Event()
+    widget.call_later(done.set)
+    try:
+        await asyncio.wait_for(done.wait(), timeout)
+    except asyncio.TimeoutError:
+        pass
+
+
+class MainScreen(KeysFirst, Screen[None]):
     """The sheet at work. Edits go to the app (``try_edit``); the app calls
     ``refresh_all`` when the document or the result changes."""
 
+    # Every key that moves the cursor or the focus is taken by the screen
+    # first (priority), as the key is read: the keys typed after it (a fast
+    # typist, a paste over SSH, tmux send-keys) then go where it sent them,
+    # in the order typed. Each is enabled only where it applies (check_action);
+    # elsewhere, in the editor's box above all, the key goes on to the focus.
     BINDINGS = [
-        # Keys that move the focus are priority bindings: they run as the key
-        # is read, so the keys typed after them go to the new pane.
         Binding("tab", "next_pane", "Next pane", show=False, priority=True),
         Binding("shift+tab", "previous_pane", "Previous pane", show=False, priority=True),
-        Binding("1", "pane('streams')", "Streams", show=False),
-        Binding("2", "pane('units')", "Units", show=False),
-        Binding("3", "pane('detail')", "Detail", show=False),
+        Binding("1", "pane('streams')", "Streams", show=False, priority=True),
+        Binding("2", "pane('units')", "Units", show=False, priority=True),
+        Binding("3", "pane('detail')", "Detail", show=False, priority=True),
+        Binding("g", "sheet_settings", "Sheet", show=False, priority=True),
+        Binding("enter", "open", "Open", show=False, priority=True),
+        Binding("e", "edit_field", "Edit", priority=True),
+        Binding("escape", "cancel_edit", "Cancel edit", priority=True),
+        Binding("escape", "back", "Back", show=False, priority=True),
+        *[Binding(key, f"move('{key}')", show=False, priority=True) for key in TABLE_MOVES],
         Binding("a", "add_item", "Add"),
         Binding("x,delete", "remove_item", "Del"),
         Binding("n", "rename_item", "Name"),
-        Binding("g", "sheet_settings", "Sheet", show=False),
-        Binding("escape", "back", "Back", show=False),
-        # The screen takes enter first so that the pane or editor it opens has
-        # the focus before the next key is read (fast typing, pasting over SSH).
-        Binding("enter", "open", "Open", show=False, priority=True),
     ]
 
     def __init__(self) -> None:
@@ -130,6 +149,8 @@ class MainScreen(Screen[None]):
                 node = node.parent
 
     def action_next_pane(self) -> None:
+        # While a field is edited, tab stays in its box (the key is taken, so
+        # the focus does not wander off an open editor).
         if self.query_one(DetailPane).editing:
             return
         self._focus_pane(PANES[(PANES.index(self.active) + 1) % len(PANES)])
@@ -142,17 +163,34 @@ class MainScreen(Screen[None]):
     def action_pane(self, pane: str) -> None:
         self._focus_pane(pane)
 
-    def action_back(self) -> None:
+    def check_action(self, action: str, parameters: tuple) -> bool | None:
+        if action in ("move", "edit_field"):
+            table = self.focused
+            return isinstance(table, FieldList) if action == "edit_field" else isinstance(table, DataTable)
+        if action in ("pane", "sheet_settings"):
+            return not (self.is_mounted and self.query_one(DetailPane).editing)
+        if action == "cancel_edit":
+            return self.is_mounted and self.query_one(DetailPane).editing
+        if action == "back":
+            return self.is_mounted and not self.query_one(DetailPane).editing and self.active == "detail"
+        return True
+
+    def action_move(self, key: str) -> None:
+        if isinstance(self.focused, DataTable):
+            getattr(self.focused, f"action_{TABLE_MOVES[key]}")()
+
+    def action_edit_field(self) -> None:
+        if isinstance(self.focused, FieldList):
+            self.focused.action_edit_field()
+
+    def action_cancel_edit(self) -> None:
         detail = self.query_one(DetailPane)
-        if detail.editing:
-            detail.editor.action_cancel()
-            return
-        if self.active == "detail":
-            self._focus_pane("units" if self.selection[0] == "unit" else "streams")
+        detail.editor.close(focus_after=detail.field_list)
+
+    def action_back(self) -> None:
+        self._focus_pane("units" if self.selection[0] == "unit" else "streams")
 
     async def action_open(self) -> None:
-        from textual.widgets import Input
-
         focused = self.focused
         if isinstance(focused, (StreamTable, UnitTable)):
             name = focused.current_name
@@ -161,8 +199,21 @@ class MainScreen(Screen[None]):
                 self._focus_pane("detail")
         elif isinstance(focused, FieldList):
             focused.action_edit_field()
-        elif isinstance(focused, Input):
-            await focused.action_submit()
+        elif self.query_one(DetailPane).editing:
+            box = self.query_one("#editor-input")
+            await caught_up(box)  # the keys typed before enter are in the box
+            self._submit_edit()
+
+    def _submit_edit(self) -> None:
+        """Make the edit typed in the editor, at once (keys typed after enter
+        go to the field list again, or stay in the box with the refusal)."""
+        detail = self.query_one(DetailPane)
+        editor = detail.editor
+        error = self.app.edit_field(editor.key_path, editor.kind, editor.value)
+        if error:
+            editor.show_error(error)
+            return
+        editor.close(focus_after=detail.field_list)
 
     def action_sheet_settings(self) -> None:
         self.selection = ("sheet", None)
@@ -256,15 +307,8 @@ class MainScreen(Screen[None]):
         detail.editor.start(field.key_path, key_path_text(field.key_path), field.kind, field.entered or "")
 
     def on_field_editor_submitted(self, message: FieldEditor.Submitted) -> None:
-        detail = self.query_one(DetailPane)
-        error = self.app.edit_field(message.key_path, message.kind, message.text)
-        if error:
-            detail.editor.show_error(error)
-            return
-        detail.editor.close(focus_after=detail.field_list)
-
-    def on_field_editor_cancelled(self, message: FieldEditor.Cancelled) -> None:
-        self.set_focus(self.query_one(DetailPane).field_list)
+        if self.query_one(DetailPane).editing:
+            self._submit_edit()
 
     def on_field_list_clear_wanted(self, message: FieldList.ClearWanted) -> None:
         field = message.field

@@ -3,6 +3,7 @@ and, beside it, why the last entry was refused."""
 
 from __future__ import annotations
 
+from textual import events
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
@@ -27,10 +28,38 @@ KIND_HINTS = {
 }
 
 
-class FieldEditor(Vertical):
-    """Shown under the field list while a field is being edited."""
+def _editing_keys() -> dict[str, str]:
+    keys = {}
+    for binding in Input.BINDINGS:
+        if isinstance(binding, Binding) and binding.action != "submit":
+            for key in binding.key.split(","):
+                keys[key.strip()] = binding.action
+    return keys
 
-    BINDINGS = [Binding("escape", "cancel", "Cancel edit", show=True)]
+
+class EntryBox(Input):
+    """The editor's text box. Its editing keys (backspace, the arrows,
+    ctrl+u ...) act as each key arrives, like the typed characters, instead
+    of after the key has gone round the app's bindings: a burst of keys (tmux
+    send-keys, a fast typist on a slow SSH link) is applied in the order it
+    was typed. Enter is the screen's (it submits once the box has caught up)."""
+
+    EDITING_KEYS = _editing_keys()
+
+    async def _on_key(self, event: events.Key) -> None:
+        action = self.EDITING_KEYS.get(event.key)
+        if action is None:
+            await super()._on_key(event)
+            return
+        event.stop()
+        event.prevent_default()
+        await self.run_action(action)
+
+
+class FieldEditor(Vertical):
+    """Shown under the field list while a field is being edited. Its text
+    starts selected: typing replaces it, an arrow key keeps it to change.
+    Enter and escape are the screen's keys (``MainScreen``)."""
 
     class Submitted(Message):
         def __init__(self, key_path: tuple, kind: str, text: str) -> None:
@@ -39,9 +68,6 @@ class FieldEditor(Vertical):
             self.text = text
             super().__init__()
 
-    class Cancelled(Message):
-        pass
-
     def __init__(self, **options) -> None:
         super().__init__(**options)
         self.key_path: tuple = ()
@@ -49,7 +75,7 @@ class FieldEditor(Vertical):
 
     def compose(self) -> ComposeResult:
         yield Static("", id="editor-label")
-        yield Input(id="editor-input")
+        yield EntryBox(id="editor-input", select_on_focus=True)
         yield Static("", id="editor-error")
 
     def start(self, key_path: tuple, label: str, kind: str, text: str) -> None:
@@ -71,6 +97,10 @@ class FieldEditor(Vertical):
         error.update(f"\u2716 refused: {message}" if message else "")
         error.set_class(bool(message), "-shown")
 
+    @property
+    def value(self) -> str:
+        return self.query_one("#editor-input", Input).value
+
     def on_input_submitted(self, event: Input.Submitted) -> None:
         event.stop()
         self.post_message(self.Submitted(self.key_path, self.kind, event.value))
@@ -80,7 +110,3 @@ class FieldEditor(Vertical):
         self.display = False
         if focus_after is not None:
             self.screen.set_focus(focus_after)
-
-    def action_cancel(self) -> None:
-        self.close()
-        self.post_message(self.Cancelled())

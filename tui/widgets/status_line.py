@@ -39,7 +39,7 @@ class StatusLine(Static):
 
     def _redraw(self) -> None:
         symbol, word, style = _MARKS[self.state]
-        text = Text()
+        text = Text(overflow="ellipsis")
         text.append(f"{symbol} {word}", style=style)
         if self.reason:
             text.append(f": {self.reason}")

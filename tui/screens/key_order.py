@@ -1,0 +1,22 @@
+"""The footer's order of keys: help, save and quit first, so that a narrow
+terminal (80 columns) still shows them, then the keys of the pane at hand,
+then the rest. The command palette key keeps its place at the right."""
+
+from __future__ import annotations
+
+FIRST_ACTIONS = ("help", "save", "quit", "edit_field", "cancel_edit")
+
+
+class KeysFirst:
+    """Mixin for a Screen: its ``active_bindings`` (what the footer lists)
+    in the order above; the same bindings, only reordered."""
+
+    @property
+    def active_bindings(self):
+        bindings = super().active_bindings
+
+        def rank(item) -> int:
+            action = item[1].binding.action
+            return FIRST_ACTIONS.index(action) if action in FIRST_ACTIONS else len(FIRST_ACTIONS)
+
+        return dict(sorted(bindings.items(), key=rank))
