@@ -91,6 +91,7 @@ ENTROPY_TOLERANCE = 1e-9  # J/(mol K), PS target
 T_SEARCH_LOW = 10.0  # K, the temperature search of PH and PS flashes stays inside
 T_SEARCH_HIGH = 5000.0  # K
 FAST_PASS_STEPS = 12  # one-phase temperature search before the equilibrium search takes over
+LAST_STEP = 1e-3  # K: a Newton step this short in the one-phase search lands within the tolerance
 
 
 def _guarded(operation: str, spec_names: tuple[str, ...]):
@@ -406,13 +407,18 @@ def _flash_p_spec(model, pressure, target, x, guess, kind) -> StreamState:
     return _mixture_p_spec(model, kernel, pressure, target, z, za, active, guess, kind, where, tolerance)
 
 
-def _search_temperature(evaluate, target, guess, low, high, tolerance, where, what, max_steps=200):
+def _search_temperature(evaluate, target, guess, low, high, tolerance, where, what, max_steps=200,
+                        last_step: float = 0.0):
     """Temperature (K) at which evaluate(T) -> (value, d value/dT, payload)
     meets ``target``, for a value rising with T: Newton's method inside a
     maintained bracket, bisection when Newton leaves the bracket or stops
     halving the miss; one-sided steps are limited so that a phase boundary
     is approached, not jumped. Returns (T, payload); raises FlashError when
-    no temperature in [low, high] meets the target."""
+    no temperature in [low, high] meets the target.
+
+    With ``last_step`` > 0, a bracketed-or-converging Newton step shorter
+    than that many kelvin is taken without evaluating its end (payload None):
+    for a caller that evaluates and verifies the state there anyway."""
     t = min(max(guess, low), high)
     below = above = None  # temperatures known to give values below / above the target
     previous = math.inf
@@ -421,6 +427,8 @@ def _search_temperature(evaluate, target, guess, low, high, tolerance, where, wh
         miss = value - target
         if abs(miss) <= tolerance:
             return t, payload
+        if last_step > 0.0 and slope > 0.0 and abs(miss / slope) < last_step and abs(miss) < 0.5 * previous:
+            return t - miss / slope, None
         if miss < 0.0:
             below = t
             if t >= high:
@@ -568,15 +576,20 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
             value, slope, _ = _phase_value(kernel.at(t, pressure), za, "auto", kind)
             return value, slope, None
 
+        # The last Newton step (quadratic by then) is not evaluated here: the state
+        # at its end is built and its H or S verified below in any case.
         single_t, _ = _search_temperature(single, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what,
-                                          max_steps=FAST_PASS_STEPS)
+                                          max_steps=FAST_PASS_STEPS, last_step=LAST_STEP)
     except (FlashError, ArithmeticError):
         single_t = None
     known = {}
     if single_t is not None:
         eq = _equilibrium(kernel, single_t, pressure, za, where)
         if eq.split is None and eq.multi is None:
-            return _verified_target(_stream(model, single_t, pressure, z_full, active, eq), target, kind, tolerance, where)
+            stream = _stream(model, single_t, pressure, z_full, active, eq)
+            if abs((stream.enthalpy if kind == "H" else stream.entropy) - target) <= tolerance:
+                return _verified_target(stream, target, kind, tolerance, where)
+            # the unevaluated last step did not land: the equilibrium search goes on from there
         guess = single_t
         known[single_t] = eq
     # Second pass: the equilibrium state at each temperature, started from the

@@ -31,8 +31,8 @@ from .fugacity import CubicAtTP
 UNSTABLE_TM = -1e-9  # tm below this proves instability beyond rounding
 TRIVIAL_DISTANCE = 1e-4  # sum (ln W - ln z)^2 below this (with tm >= 0): the trial is falling onto the feed
 CONVERGED_STEP = 1e-10  # max |delta ln W| of a converged stationary point
-SETTLED_STEP = 1e-5  # a trial this close to its stationary point ...
-SETTLED_TM = 1e-4  # ... with tm above this has settled on a positive minimum
+SETTLED_STEP = 0.1  # a trial whose steps are this small ...
+SETTLED_MARGIN = 1e3  # ... and whose tm exceeds this many times sum W delta^2 has settled above zero
 SUBSTITUTION_STEPS = 40  # before the Newton finish
 NEWTON_STEPS = 30
 ACCELERATE_EVERY = 5
@@ -101,9 +101,9 @@ def _trial(state: CubicAtTP, z: np.ndarray, ln_z: np.ndarray, d: np.ndarray, ln_
         if tm >= 0.0 and float(gap @ gap) < TRIVIAL_DISTANCE:
             return TrialResult(kind, z, 0.0, "trivial", iterations)
         step = float(np.abs(delta).max())
-        if step < CONVERGED_STEP or (step < SETTLED_STEP and tm > SETTLED_TM):
-            # Substitution lowers tm at every step, and from here by no more than
-            # about sum W delta^2: a tm this clearly positive stays positive.
+        if step < CONVERGED_STEP or (step < SETTLED_STEP and tm > SETTLED_MARGIN * float(w_moles @ (delta * delta))):
+            # Substitution lowers tm at every step, by about sum W delta^2 and
+            # geometrically less at each: a tm this far above that stays positive.
             return TrialResult(kind, w_moles / total, tm, "stationary", iterations)
         previous_tm = tm
         if previous_delta is not None and iterations % ACCELERATE_EVERY == 0:
