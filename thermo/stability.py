@@ -115,6 +115,8 @@ def _trial(state: CubicAtTP, z: np.ndarray, ln_z: np.ndarray, d: np.ndarray, ln_
                 continue
         previous_delta = delta
         ln_w = ln_w_new
+    if saved_plain is not None:
+        ln_w = saved_plain  # never hand an untested extrapolation to Newton's method
     return _newton_trial(state, z, ln_z, d, ln_w, kind, iterations)
 
 

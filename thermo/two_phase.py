@@ -25,7 +25,7 @@ from .fugacity import CubicAtTP, PhaseDerivatives
 from .flash_support import solve
 from .rachford_rice import RachfordRiceError, rachford_rice
 
-SWITCH_TO_NEWTON = 1e-5  # max |ln f_y - ln f_x| at which substitution hands over
+SWITCH_TO_NEWTON = 1e-3  # max |ln f_y - ln f_x| at which substitution hands over
 SWITCH_WARM = 1e-2  # the same for a start from a nearby converged split
 CONVERGED = 1e-11  # max |ln f_y - ln f_x| of a converged split
 QUADRATIC = 1e-6  # below this mismatch the next Newton step is taken as the last
