@@ -5,8 +5,17 @@ Other test modules may add fixtures here; keep each one small and documented.
 
 from __future__ import annotations
 
+import os
+
 import numpy as np
 import pytest
+from hypothesis import settings
+
+# CI runs the same hypothesis examples every time (a red CI must be
+# reproducible); a developer's run explores new ones.
+settings.register_profile("ci", derandomize=True, print_blob=True)
+if os.environ.get("CI"):
+    settings.load_profile("ci")
 
 from thermo.mixture import Mixture, make_mixture
 from thermo.models import make_model
