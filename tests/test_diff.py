@@ -236,3 +236,15 @@ def test_old_version_from_git_returns_the_committed_bytes(repo):
     data, label = diffing.old_version_from_git(sheet, "HEAD")
     assert data.decode("utf-8") == LETDOWN_TEXT
     assert label == "HEAD:sheets/station.toml"
+
+
+def test_a_closed_loop_circulation_change_is_an_input(capsys, tmp_path):
+    chiller = (Path(__file__).resolve().parents[1] / "flowsheets" / "propane-chiller.toml").read_text("utf-8")
+    assert 'flow = "120 kmol/h"' in chiller
+    old, new = tmp_path / "old.toml", tmp_path / "new.toml"
+    old.write_text(chiller, encoding="utf-8")
+    new.write_text(chiller.replace('flow = "120 kmol/h"', 'flow = "130 kmol/h"', 1), encoding="utf-8")
+    code, out, err = run(capsys, "diff", old, new)
+    assert code == 1
+    inputs = out.split("Inputs:", 1)[1].split("Units:", 1)[0]
+    assert "streams.chiller-vapor.flow: 120.00 kmol/h -> 130.00 kmol/h" in inputs

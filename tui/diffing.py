@@ -245,8 +245,12 @@ def _diff_components(old: Sheet, new: Sheet) -> list[Change]:
 
 
 def _diff_feeds(old: Sheet, new: Sheet) -> list[Change]:
+    # Feeds and closed-loop estimates (whose flow is the loop's circulation)
+    # are both stream tables the engineer writes.
+    old_tables = {**old.streams, **getattr(old, "loop_estimates", {})}
+    new_tables = {**new.streams, **getattr(new, "loop_estimates", {})}
     changes: list[Change] = []
-    for _, what, a, b in _matched(old.streams, new.streams, lambda name: f"streams.{name}", changes):
+    for _, what, a, b in _matched(old_tables, new_tables, lambda name: f"streams.{name}", changes):
         for attribute, key, kind in _FEED_FIELDS:
             va, vb = getattr(a, attribute), getattr(b, attribute)
             if not _same(va, vb):
