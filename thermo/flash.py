@@ -265,7 +265,11 @@ def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit 
     k_wilson = wilson_k(kernel.tc, kernel.pc, kernel.omega, state.temperature, state.pressure)
     for _ in range(2):
         try:
+            # Trials seeded from the phase itself, then (a nearly pure phase seeds
+            # poorly) from the feed, against the same tangent plane.
             stability = stability_test(state, phases[-1], k_wilson, vapor_trial=not has_vapor)
+            if stability.stable:
+                stability = stability_test(state, phases[-1], k_wilson, seed=eq.z, extra_trials=False)
         except StabilityError:
             return eq
         if stability.stable:

@@ -193,20 +193,25 @@ def second_liquid_possible(kernel) -> bool:
 
 
 def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,
-                   ln_phi_feed: np.ndarray | None = None, vapor_trial: bool = True) -> StabilityResult:
+                   ln_phi_feed: np.ndarray | None = None, vapor_trial: bool = True,
+                   seed: np.ndarray | None = None, extra_trials: bool = True) -> StabilityResult:
     """Tangent-plane test of feed z (mole fractions over the kernel's active
     components, all positive) at the state's T and P, with trials seeded by
-    the K-values ``k_wilson``. ``vapor_trial`` False leaves out the
-    vapor-like trial (testing a liquid already in equilibrium with a vapor,
-    that trial only finds the vapor again)."""
+    the K-values ``k_wilson`` applied to z, or to ``seed`` where given (for a
+    phase of a split, the feed: a nearly pure phase seeds poor trials, and
+    the tangent plane is the same from every phase). ``vapor_trial`` False
+    leaves out the vapor-like trial (testing a liquid already in equilibrium
+    with a vapor, that trial only finds the vapor again); ``extra_trials``
+    False leaves out the near-pure second-liquid trials."""
     ln_z = np.log(z)
     if ln_phi_feed is None:
         ln_phi_feed, _, _ = state.ln_phi(z)
     d = ln_z + ln_phi_feed
     ln_k = np.log(k_wilson)
-    liquid = _trial(state, z, ln_z, d, ln_z - ln_k, "liquid-like")
+    base = ln_z if seed is None else np.log(seed)
+    liquid = _trial(state, z, ln_z, d, base - ln_k, "liquid-like")
     if vapor_trial:
-        vapor = _trial(state, z, ln_z, d, ln_z + ln_k, "vapor-like")
+        vapor = _trial(state, z, ln_z, d, base + ln_k, "vapor-like")
     else:
         vapor = TrialResult("vapor-like", z, 0.0, "skipped", 0)
     trials = (vapor, liquid)
@@ -214,7 +219,7 @@ def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,
     unstable_vapor = vapor.outcome == "unstable"
     unstable_liquid = liquid.outcome == "unstable"
     if not (unstable_vapor or unstable_liquid):
-        for candidate in _second_liquid_candidates(state, z, trials):
+        for candidate in (_second_liquid_candidates(state, z, trials) if extra_trials else ()):
             start = np.full(len(z), 1e-3 / len(z))
             start[candidate] += 1.0 - 1e-3
             extra = _trial(state, z, ln_z, d, np.log(start), "liquid-like")
