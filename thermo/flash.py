@@ -3,7 +3,10 @@ vapor fraction, bubble and dew points, and pure-component saturation.
 
 At fixed T and P a cubic-model feed is tested for stability by the tangent
 plane (``thermo.stability``); an unstable feed is split into two phases
-(``thermo.two_phase``). A pure component has one phase except on its
+(``thermo.two_phase``), and for three or more components the phases of the
+split are tested in turn: where a third phase would form (vapor with two
+liquids, as water with hydrocarbons) the multiphase method takes over
+(``thermo.three_phase``). A pure component has one phase except on its
 saturation curve (``thermo.saturation``). PH and PS flashes search the
 temperature with Newton's method inside a maintained bracket, falling back to
 bisection, on the equilibrium enthalpy or entropy, whose temperature
@@ -16,8 +19,15 @@ single-phase vapor, and saturation requests on them raise FlashError.
 
 Every result is verified before it is returned: equal ln fugacities to
 1e-8 and closed mass balances for a split, the H or S target met to a tight
-tolerance; otherwise FlashError names the state and what failed. States near
-a critical point carry the note "near-critical" in StreamState.notes.
+tolerance; otherwise FlashError names the state and what failed. Notes in
+StreamState.notes: "near-critical" (a pure component within 2 % of Tc and
+10 % of Pc, a split with all K within 20 % of 1, or a stability test whose
+trials crept onto the feed), "three-phase", "liquid-liquid" (no vapor among
+the phases). A stream of three phases still has the phase label
+"two-phase" (more than one phase); its phases say which.
+
+Not handled: a vapor-fraction flash (flash_pv, flash_tv) and bubble and dew
+points look for two phases only; four or more phases are not sought.
 
 SI units: K, Pa, J/mol, J/(mol K); compositions are mole-fraction vectors
 over the model's mixture.
@@ -31,7 +41,6 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import idealgas
 from .bubble_dew import EnvelopePoint, envelope_point
 from .components import R
 from .departures import LIQUID_LIKE, StateInputError, check_state

@@ -121,6 +121,7 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
         error = float(np.max(np.abs(delta)))
         previous_gibbs = gibbs
         if error < switch and 0.0 < beta < 1.0:
+            ln_k = ln_k_new
             break
         if previous_delta is not None and iterations % ACCELERATE_EVERY == 0:
             overlap = float(previous_delta @ delta)
@@ -132,9 +133,6 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
                 continue
         previous_delta = delta
         ln_k = ln_k_new
-    else:
-        if not (0.0 < beta < 1.0):
-            return None
     if not (0.0 < beta < 1.0):
         return None
     return _newton(state, z, ln_k, beta, iterations)
