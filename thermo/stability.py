@@ -41,7 +41,10 @@ ACCELERATE_EVERY = 5
 CONDENSABLE_TR = 0.6
 LIQUID_CONTRAST = 1.8
 PERMANENT_GAS_TC = 100.0  # K: hydrogen, helium, neon never condense in process streams
-LN_W_LIMIT = 200.0  # |ln W| is held below this, so that no trial mole number underflows to zero
+LN_W_LIMIT = 200.0  # ln W is held above -this, so that no trial mole number underflows to zero
+LN_W_HIGH = 50.0  # and below this: a trial of e^50 moles per mole of feed has run away
+MAX_EIGEN = 0.95  # dominant-eigenvalue extrapolation only where substitution is not creeping
+MAX_JUMP = 5.0  # and by at most this much in any ln W
 
 
 @dataclass(frozen=True)
@@ -80,7 +83,7 @@ def _trial(state: CubicAtTP, z: np.ndarray, ln_z: np.ndarray, d: np.ndarray, ln_
     saved_plain = None
     iterations = 0
     for iterations in range(1, SUBSTITUTION_STEPS + 1):
-        ln_w = np.maximum(ln_w, -LN_W_LIMIT)
+        ln_w = np.minimum(np.maximum(ln_w, -LN_W_LIMIT), LN_W_HIGH)
         w_moles = np.exp(ln_w)
         total = float(w_moles.sum())
         ln_phi, _, _ = state.ln_phi(w_moles * (1.0 / total))
@@ -108,9 +111,13 @@ def _trial(state: CubicAtTP, z: np.ndarray, ln_z: np.ndarray, d: np.ndarray, ln_
         previous_tm = tm
         if previous_delta is not None and iterations % ACCELERATE_EVERY == 0:
             eigen = float(delta @ delta) / float(previous_delta @ delta) if float(previous_delta @ delta) != 0.0 else 0.0
-            if 0.0 < eigen < 1.0:
+            if 0.0 < eigen < MAX_EIGEN:
                 saved_plain = ln_w_new
-                ln_w = ln_w_new + delta * (eigen / (1.0 - eigen))
+                jump = delta * (eigen / (1.0 - eigen))
+                largest = float(np.abs(jump).max())
+                if largest > MAX_JUMP:
+                    jump *= MAX_JUMP / largest
+                ln_w = ln_w_new + jump
                 previous_delta = None
                 continue
         previous_delta = delta

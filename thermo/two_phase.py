@@ -126,9 +126,13 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
         if previous_delta is not None and iterations % ACCELERATE_EVERY == 0:
             overlap = float(previous_delta @ delta)
             eigen = float(delta @ delta) / overlap if overlap != 0.0 else 0.0
-            if 0.0 < eigen < 1.0:
+            if 0.0 < eigen < 0.95:
                 saved = (ln_k_new, beta)
-                ln_k = ln_k_new + delta * (eigen / (1.0 - eigen))
+                jump = delta * (eigen / (1.0 - eigen))
+                largest = float(np.abs(jump).max())
+                if largest > 5.0:
+                    jump *= 5.0 / largest  # an extrapolation, not a leap
+                ln_k = ln_k_new + jump
                 previous_delta = None
                 continue
         previous_delta = delta
