@@ -95,8 +95,8 @@ __all__ = [
 
 VERIFY_FUGACITY = 1e-8  # max |ln f_y - ln f_x| of a returned split
 VERIFY_BALANCE = 1e-10  # max |beta y + (1 - beta) x - z| of a returned split
-ENTHALPY_TOLERANCE = 1e-6  # J/mol, PH target
-ENTROPY_TOLERANCE = 1e-9  # J/(mol K), PS target
+ENTHALPY_TOLERANCE = 1e-5  # J/mol, PH target (about 1e-9 of a typical molar enthalpy scale, R T ~ 2 kJ/mol)
+ENTROPY_TOLERANCE = 1e-8  # J/(mol K), PS target
 T_SEARCH_LOW = 10.0  # K, the temperature search of PH and PS flashes stays inside
 T_SEARCH_HIGH = 5000.0  # K
 FAST_PASS_STEPS = 12  # one-phase temperature search before the equilibrium search takes over
@@ -277,7 +277,7 @@ def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit 
             # Trials seeded from the phase itself, then (a nearly pure phase seeds
             # poorly) from the feed, against the same tangent plane.
             stability = stability_test(state, phases[-1], k_wilson, vapor_trial=not has_vapor)
-            if stability.stable:
+            if stability.stable and second_liquid_possible(kernel):
                 stability = stability_test(state, phases[-1], k_wilson, seed=eq.z, extra_trials=False)
         except StabilityError:
             return eq
