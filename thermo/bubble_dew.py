@@ -121,7 +121,7 @@ def envelope_point(kernel: CubicKernel, z: np.ndarray, beta: float, spec: str, v
         ln_phi_x, _, _ = state.ln_phi(x / x.sum())
         ln_phi_y, _, _ = state.ln_phi(y / y.sum())
         ln_k = ln_phi_x - ln_phi_y
-        if float(np.max(np.abs(ln_k))) < TRIVIAL_LN_K:
+        if float(np.abs(ln_k).max()) < TRIVIAL_LN_K:
             break
         if spec == "T":
             sensitivity = -np.ones_like(ln_k)
@@ -154,8 +154,8 @@ def envelope_point(kernel: CubicKernel, z: np.ndarray, beta: float, spec: str, v
         equations = np.empty(size + 1)
         equations[:size] = ln_k + py.ln_phi - px.ln_phi
         equations[size] = _balance(z, k, beta)
-        error = float(np.max(np.abs(equations)))
-        if float(np.max(np.abs(ln_k))) < TRIVIAL_LN_K:
+        error = float(np.abs(equations).max())
+        if float(np.abs(ln_k).max()) < TRIVIAL_LN_K:
             raise FlashError(
                 f"{where}: the phases merged into one (all K-values within {TRIVIAL_LN_K:g} of 1 in ln K): "
                 "the state is at or beyond the critical point or outside the phase envelope"
@@ -177,7 +177,7 @@ def envelope_point(kernel: CubicKernel, z: np.ndarray, beta: float, spec: str, v
             step = solve(jacobian, -equations)
         except np.linalg.LinAlgError:
             raise FlashError(f"{where}: singular Jacobian (the state is near a critical point)") from None
-        largest = float(np.max(np.abs(step)))
+        largest = float(np.abs(step).max())
         limit = 0.5 if spec == "T" else 0.2
         if abs(step[size]) > limit:
             step *= limit / abs(step[size])
@@ -194,8 +194,8 @@ def envelope_point(kernel: CubicKernel, z: np.ndarray, beta: float, spec: str, v
     state = kernel.at(t, p)
     check_x, _, _ = state.ln_phi(x_n)
     check_y, _, _ = state.ln_phi(y_n)
-    mismatch = float(np.max(np.abs(np.log(y_n) + check_y - np.log(x_n) - check_x)))
-    balance = float(np.max(np.abs((1.0 - beta) * x_n + beta * y_n - z)))
+    mismatch = float(np.abs(np.log(y_n) + check_y - np.log(x_n) - check_x).max())
+    balance = float(np.abs((1.0 - beta) * x_n + beta * y_n - z).max())
     if not (mismatch < VERIFY and balance < 1e-9):
         raise FlashError(
             f"{where}: verification failed (ln-fugacity mismatch {mismatch:.3g}, mass-balance error {balance:.3g})"

@@ -247,7 +247,7 @@ def _both_liquid(state: CubicAtTP, result: Split) -> bool:
 def _verify_split(state: CubicAtTP, z: np.ndarray, result: Split, where: str) -> None:
     # fugacity_error was evaluated from ln(phi) at the very compositions returned
     mismatch = result.fugacity_error
-    balance = float(np.max(np.abs(result.beta * result.y + (1.0 - result.beta) * result.x - z)))
+    balance = float(np.abs(result.beta * result.y + (1.0 - result.beta) * result.x - z).max())
     if not (mismatch < VERIFY_FUGACITY and balance < VERIFY_BALANCE and 0.0 < result.beta < 1.0):
         raise FlashError(
             f"{where}: the two-phase split failed verification (ln-fugacity mismatch {mismatch:.3g}, "
@@ -296,7 +296,7 @@ def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit 
 
 
 def _from_multi(state: CubicAtTP, z: np.ndarray, found: MultiSplit, where) -> _Equilibrium:
-    balance = float(np.max(np.abs(found.amounts @ found.compositions - z)))
+    balance = float(np.abs(found.amounts @ found.compositions - z).max())
     if not (found.fugacity_error < VERIFY_FUGACITY and balance < VERIFY_BALANCE):
         raise FlashError(
             f"{where}: the multiphase split failed verification (ln-fugacity mismatch "

@@ -142,7 +142,7 @@ def _newton_trial(state, z, ln_z, d, ln_w, kind, done):
         distance = float((ln_w - ln_z) @ (ln_w - ln_z))
         if distance < TRIVIAL_DISTANCE and tm >= 0.0:
             return TrialResult(kind, z, 0.0, "trivial", done + step_count)
-        if float(np.max(np.abs(residual))) < CONVERGED_STEP:
+        if float(np.abs(residual).max()) < CONVERGED_STEP:
             return TrialResult(kind, w_moles / total, tm, "stationary", done + step_count)
         root_w = np.sqrt(w_moles)
         gradient = root_w * residual

@@ -64,7 +64,7 @@ def _phase_amounts(z: np.ndarray, inverse_phi: np.ndarray, beta: np.ndarray) -> 
             gradient = 1.0 - inverse_phi @ ratio
             index = np.flatnonzero(active)
             g = gradient[index]
-            if float(np.max(np.abs(g))) < 1e-13:
+            if float(np.abs(g).max()) < 1e-13:
                 break
             weighted = inverse_phi[index] * (ratio / e)
             step = solve(weighted @ inverse_phi[index].T, -g)
@@ -105,7 +105,7 @@ def _merge_alike(compositions: np.ndarray, beta: np.ndarray) -> int | None:
     logs = np.log(compositions / compositions.sum(axis=1)[:, None])
     for k in range(len(beta)):
         for l in range(k + 1, len(beta)):
-            if float(np.max(np.abs(logs[k] - logs[l]))) < MERGE:
+            if float(np.abs(logs[k] - logs[l]).max()) < MERGE:
                 beta[k] += beta[l]
                 return l
     return None
@@ -139,7 +139,7 @@ def multiphase_split(state: CubicAtTP, z: np.ndarray, starts: list[np.ndarray]) 
             history.clear()
             continue
         change = new_ln_phi[present] - ln_phi[present]
-        step = float(np.max(np.abs(change))) if change.size else 0.0
+        step = float(np.abs(change).max()) if change.size else 0.0
         history.append(new_ln_phi - ln_phi)
         ln_phi = new_ln_phi
         if step < CONVERGED:

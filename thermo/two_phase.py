@@ -61,6 +61,10 @@ class Split:
     iterations: int
 
 
+def _limited(ln_k: np.ndarray) -> np.ndarray:
+    return np.minimum(np.maximum(ln_k, -LN_K_LIMIT), LN_K_LIMIT)
+
+
 class SplitError(ArithmeticError):
     """A split that neither converged nor collapsed to one phase."""
 
@@ -87,7 +91,7 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
     if switch >= SWITCH_WARM:
         # A start from a converged split at a nearby state: Newton at once.
         try:
-            result = _newton(state, z, np.clip(ln_k, -LN_K_LIMIT, LN_K_LIMIT), beta, 0)
+            result = _newton(state, z, _limited(ln_k), beta, 0)
         except SplitError:
             result = None
         if result is not None:
@@ -98,8 +102,8 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
     error = math.inf
     iterations = 0
     for iterations in range(1, SUBSTITUTION_STEPS + 1):
-        ln_k = np.clip(ln_k, -LN_K_LIMIT, LN_K_LIMIT)
-        if float(np.max(np.abs(ln_k))) < TRIVIAL_LN_K:
+        ln_k = _limited(ln_k)
+        if float(np.abs(ln_k).max()) < TRIVIAL_LN_K:
             return None
         k = np.exp(ln_k)
         try:
@@ -118,7 +122,7 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
         saved = None
         ln_k_new = ln_phi_x - ln_phi_y
         delta = ln_k_new - ln_k
-        error = float(np.max(np.abs(delta)))
+        error = float(np.abs(delta).max())
         previous_gibbs = gibbs
         if error < switch and 0.0 < beta < 1.0:
             ln_k = ln_k_new
@@ -152,7 +156,7 @@ def _newton(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float, done
     eye = np.eye(size)
     previous_error = math.inf
     for step_count in range(1, NEWTON_STEPS + 1):
-        ln_k = np.clip(ln_k, -LN_K_LIMIT, LN_K_LIMIT)
+        ln_k = _limited(ln_k)
         k = np.exp(ln_k)
         try:
             beta = rachford_rice(z, k, beta)
@@ -167,9 +171,9 @@ def _newton(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float, done
         props_y = state.derivatives(y / y.sum())
         props_x = state.derivatives(x / x.sum())
         gradient = ln_k + props_y.ln_phi - props_x.ln_phi
-        error = float(np.max(np.abs(gradient)))
+        error = float(np.abs(gradient).max())
         if error < CONVERGED:
-            if float(np.max(np.abs(ln_k))) < TRIVIAL_LN_K:
+            if float(np.abs(ln_k).max()) < TRIVIAL_LN_K:
                 return None
             x, y = x / x.sum(), y / y.sum()
             return Split(beta, x, y, np.log(y) - np.log(x), props_x, props_y,
@@ -194,13 +198,13 @@ def _newton(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float, done
             step = solve(jacobian, -gradient)
         except np.linalg.LinAlgError:
             raise SplitError("singular Jacobian in the Newton stage") from None
-        largest = float(np.max(np.abs(step)))
+        largest = float(np.abs(step).max())
         if largest > 2.0:
             step *= 2.0 / largest
         if error < QUADRATIC:
             # One more step lands within rounding: check it with ln(phi) alone
             # rather than a fresh set of derivatives.
-            final = _checked_step(state, z, np.clip(ln_k + step, -LN_K_LIMIT, LN_K_LIMIT), beta, props_x, props_y,
+            final = _checked_step(state, z, _limited(ln_k + step), beta, props_x, props_y,
                                   done + step_count)
             if final is not None:
                 return final
@@ -221,8 +225,8 @@ def _checked_step(state, z, ln_k, beta, props_x, props_y, iterations) -> Split |
     ln_phi_x, _, _ = state.ln_phi(x)
     ln_phi_y, _, _ = state.ln_phi(y)
     ln_x, ln_y = np.log(x), np.log(y)
-    error = float(np.max(np.abs(ln_y + ln_phi_y - ln_x - ln_phi_x)))
-    if not error < CONVERGED or float(np.max(np.abs(ln_y - ln_x))) < TRIVIAL_LN_K:
+    error = float(np.abs(ln_y + ln_phi_y - ln_x - ln_phi_x).max())
+    if not error < CONVERGED or float(np.abs(ln_y - ln_x).max()) < TRIVIAL_LN_K:
         return None
     thermal_x = state.thermal(x)[:3]
     thermal_y = state.thermal(y)[:3]
