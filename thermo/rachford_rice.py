@@ -76,10 +76,3 @@ def rachford_rice(z: np.ndarray, k: np.ndarray, guess: float | None = None) -> f
         beta = candidate
     return beta
 
-
-def split_compositions(z: np.ndarray, k: np.ndarray, beta: float) -> tuple[np.ndarray, np.ndarray]:
-    """Liquid x and vapor y mole fractions of a split at vapor fraction beta,
-    normalised so each sums to 1."""
-    x = z / (1.0 + beta * (k - 1.0))
-    y = k * x
-    return x / x.sum(), y / y.sum()
