@@ -56,6 +56,7 @@ COMMANDS = (
     ("pane('detail')", "Detail pane", "Go to the detail pane", "main"),
 )
 SHEET_ACTIONS = {"save", "undo", "redo", "choose_model", "cycle_units", "reload", "diff", "chart", "open_other"}
+REDRAW_WAIT_S = 0.15  # after an edit, how long the screen waits for the solve before redrawing
 
 
 def describe_sheet_error(error: SheetError) -> str:
@@ -120,6 +121,8 @@ class StatepathApp(App[int]):
         self._dome_cache: dict = {}
         self._dome_running = False
         self.main_screen = None
+        self._redraw_timer = None
+        self._history_shown = (False, False)
 
     # -------------------------------------------------------------- start
 
@@ -159,6 +162,7 @@ class StatepathApp(App[int]):
             self.show_start(f"cannot open {path}: {error.strerror or error}")
             return
         self._leave_start()
+        session.recovery_writer = partial(self._write_recovery, session)
         self.session = session
         self.result = None
         self._document_cache = None
@@ -227,6 +231,13 @@ class StatepathApp(App[int]):
     def on_start_screen_open_wanted(self, message) -> None:
         self.open_path(message.path)
 
+    @work(thread=True, group="recovery", exit_on_error=False)
+    def _write_recovery(self, session: Session) -> None:
+        try:
+            session.write_recovery()
+        except OSError as error:
+            self.call_from_thread(self.say, f"\u25b3 unsaved edits could not be kept in a recovery file: {error}")
+
     # -------------------------------------------------------------- state for widgets
 
     @property
@@ -286,6 +297,9 @@ class StatepathApp(App[int]):
         if generation != self.solve_generation:
             return  # an edit came after the one this solve was for
         self.solve_running = False
+        if self._redraw_timer is not None:
+            self._redraw_timer.stop()
+            self._redraw_timer = None
         self.solves_finished += 1
         if failure is not None:
             self._status(FAILED, failure)
@@ -314,11 +328,26 @@ class StatepathApp(App[int]):
     # -------------------------------------------------------------- editing
 
     def _changed(self, message: str) -> None:
-        self.refresh_bindings()
+        """After an accepted edit: say so, mark the sheet unsaved and solve.
+        The tables and the detail pane are redrawn once, when the solve comes
+        back; a solve that takes longer than REDRAW_WAIT_S gets them redrawn
+        with the new entries (and the last computed values) in the meantime."""
+        history = (self.session.can_undo, self.session.can_redo)
+        if history != self._history_shown:  # undo / redo come and go in the footer
+            self._history_shown = history
+            self.refresh_bindings()
         self.say(message)
         if self.main_screen is not None:
-            self.main_screen.refresh_all()
+            self.main_screen.refresh_banner()
         self.start_solve()
+        if self._redraw_timer is not None:
+            self._redraw_timer.stop()
+        self._redraw_timer = self.set_timer(REDRAW_WAIT_S, self._redraw_while_solving)
+
+    def _redraw_while_solving(self) -> None:
+        self._redraw_timer = None
+        if self.solve_running and self.main_screen is not None:
+            self.main_screen.refresh_all()
 
     def try_edit(self, label: str, edit) -> str | None:
         """Make ``edit`` through the session; the message of a refusal, else None."""
@@ -526,23 +555,22 @@ class StatepathApp(App[int]):
     # -------------------------------------------------------------- actions
 
     def check_action(self, action: str, parameters: tuple) -> bool | None:
-        from tui.screens.chart import ChartScreen
-        from tui.screens.main import MainScreen
-
+        # Screens say which of the sheet's actions they offer (``SHEET_ACTIONS``
+        # of MainScreen: all; of ChartScreen: the units), so that asking does
+        # not import them.
+        offered = getattr(self.screen, "SHEET_ACTIONS", None)
         if action in SHEET_ACTIONS:
-            if self.session is None or not isinstance(self.screen, (MainScreen, ChartScreen)):
+            if self.session is None or offered is None:
                 return False
-            if isinstance(self.screen, ChartScreen) and action != "cycle_units":
+            if action not in offered:
                 return False
             # Hidden from the footer (and idle) when there is nothing to do.
             if action == "undo" and not self.session.can_undo:
                 return False
             if action == "redo" and not self.session.can_redo:
                 return False
-        if action == "help" and not isinstance(self.screen, (MainScreen, ChartScreen)):
-            from tui.screens.start import StartScreen
-
-            return isinstance(self.screen, StartScreen)
+        if action == "help" and offered is None:
+            return type(self.screen).__name__ == "StartScreen"
         return True
 
     def action_help(self) -> None:

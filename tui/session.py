@@ -20,6 +20,7 @@ import hashlib
 import json
 import os
 import tempfile
+import threading
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Callable
@@ -211,6 +212,15 @@ class Session:
         self._undo: list[Step] = []
         self._redo: list[Step] = []
         self._recovery_written: Path | None = None
+        # How the recovery file is kept up to date after an edit: None writes
+        # it at once; the app hands a function that writes it off its event
+        # loop (``write_recovery`` from a thread), so that typing never waits
+        # for the disk. The lock and the counters keep a late write from
+        # bringing back a recovery that a save or a discard removed.
+        self.recovery_writer: Callable[[], Any] | None = None
+        self._recovery_lock = threading.Lock()
+        self._text_count = 0
+        self._discarded_at = -1
 
     # -------------------------------------------------------------- opening
 
@@ -294,7 +304,11 @@ class Session:
             loaded = self._loader(text, str(self.path) if self.path else None)
         self.text = text
         self.loaded = loaded
-        self.write_recovery()
+        self._text_count += 1
+        if self.recovery_writer is None:
+            self.write_recovery()
+        else:
+            self.recovery_writer()
 
     def undo(self) -> str | None:
         """Step back; returns the label of what was undone, None if nothing."""
@@ -401,29 +415,40 @@ class Session:
         return recovery_path_in_state_dir(self.path, self._environ)
 
     def write_recovery(self) -> Path | None:
-        """Keep unsaved edits on disk (removed again once nothing is unsaved)."""
-        if not self.dirty:
-            self.discard_recovery()
-            return None
-        target = self.recovery_path()
-        if target is None:
-            return None
-        payload = {
-            "format": RECOVERY_FORMAT,
-            "sheet": str(self.path.resolve()),
-            "disk_sha256": _sha256(self.saved_text),
-            "text": self.text,
-        }
-        try:
-            _write_atomic(target, json.dumps(payload, indent=1) + "\n")
-        except OSError:
-            target = recovery_path_in_state_dir(self.path, self._environ)
-            _write_atomic(target, json.dumps(payload, indent=1) + "\n")
-        self._recovery_written = target
-        return target
+        """Keep unsaved edits on disk (removed again once nothing is unsaved).
+        Safe to call from a thread: it writes the text as it is then."""
+        with self._recovery_lock:
+            if self._text_count <= self._discarded_at:
+                return None  # thrown away (save, discard) since the edit that asked
+            text, saved_text, path = self.text, self.saved_text, self.path
+            if text == saved_text:
+                self._discard_recovery_locked()
+                return None
+            target = self.recovery_path()
+            if target is None:
+                return None
+            payload = {
+                "format": RECOVERY_FORMAT,
+                "sheet": str(path.resolve()),
+                "disk_sha256": _sha256(saved_text),
+                "text": text,
+            }
+            try:
+                _write_atomic(target, json.dumps(payload, indent=1) + "\n")
+            except OSError:
+                target = recovery_path_in_state_dir(path, self._environ)
+                _write_atomic(target, json.dumps(payload, indent=1) + "\n")
+            self._recovery_written = target
+            return target
 
     def discard_recovery(self) -> None:
-        """Remove the recovery file of this sheet (both possible places)."""
+        """Remove the recovery file of this sheet (both possible places); a
+        write asked for by an earlier edit and still pending is dropped."""
+        with self._recovery_lock:
+            self._discarded_at = self._text_count
+            self._discard_recovery_locked()
+
+    def _discard_recovery_locked(self) -> None:
         if self.path is None:
             return
         for candidate in (recovery_path_beside(self.path), recovery_path_in_state_dir(self.path, self._environ)):

@@ -265,7 +265,7 @@ def test_switch_display_units(sheet_path, environ):
         async with app.run_test(size=SIZE) as pilot:
             await settle(app, pilot)
             table = app.main_screen.query_one(StreamTable)
-            headers = lambda: [" ".join(str(c.label).split()) for c in table.columns.values()]  # noqa: E731
+            headers = table.column_headers
             assert "T degC" in headers()
             await pilot.press("u")
             assert app.system == "US" and "T degF" in headers() and "P psia" in headers()

@@ -89,8 +89,7 @@ def test_stream_table_fits_80_columns_with_every_column(sheet_path, environ):
         async with app.run_test(size=(80, 24)) as pilot:
             await settle(app, pilot)
             table = app.main_screen.query_one(StreamTable)
-            assert [c.key.value for c in table.columns.values()] == ["name", "T", "P", "flow", "phase", "H", "S",
-                                                                     "flags"]
+            assert table.column_keys == ("name", "T", "P", "flow", "phase", "H", "S", "flags")
             assert table.virtual_size.width <= table.scrollable_content_region.width <= 80
             for name in app.result.streams:
                 row = _row_text(table, name)

@@ -5,9 +5,10 @@ from __future__ import annotations
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.screen import Screen
-from textual.widgets import Footer, Static
+from textual.widgets import Static
 
 from tui.screens.key_order import KeysFirst
+from tui.widgets.key_footer import KeyFooter
 from tui.chart import CHART_TITLES, PRESSURE_ENTHALPY, TEMPERATURE_ENTROPY
 from tui.widgets.chart_view import ChartView
 
@@ -20,6 +21,8 @@ class ChartScreen(KeysFirst, Screen[None]):
         Binding("escape,c,q", "close", "Back to the sheet"),
     ]
 
+    SHEET_ACTIONS = frozenset({"cycle_units"})
+
     def __init__(self, kind: str = PRESSURE_ENTHALPY) -> None:
         super().__init__()
         self.kind = kind
@@ -27,7 +30,7 @@ class ChartScreen(KeysFirst, Screen[None]):
     def compose(self) -> ComposeResult:
         yield Static("", id="chart-title", classes="pane-title")
         yield ChartView(id="chart")
-        yield Footer()
+        yield KeyFooter()
 
     def on_mount(self) -> None:
         self.redraw()

@@ -13,19 +13,21 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Static
+from textual.widgets import Static
 
 from thermo.spec import UNIT_TYPES
 from tui.screens.key_order import KeysFirst
+from tui.widgets.key_footer import KeyFooter
 from tui.widgets.banner import Banner
 from tui.widgets.detail_pane import DetailPane, FieldList
 from tui.widgets.field_editor import FieldEditor
+from tui.widgets.row_table import RowTable
 from tui.widgets.status_line import StatusLine
 from tui.widgets.stream_table import StreamTable
 from tui.widgets.unit_table import UnitTable
 
 PANES = ("streams", "units", "detail")
-# Keys that move a table's cursor -> the DataTable action that does it.
+# Keys that move a table's cursor -> the table's action that does it.
 TABLE_MOVES = {"up": "cursor_up", "down": "cursor_down", "pageup": "page_up", "pagedown": "page_down",
                "home": "scroll_top", "end": "scroll_bottom", "ctrl+home": "scroll_top", "ctrl+end": "scroll_bottom"}
 NARROW_WIDTH = 100  # columns below which one pane is open at a time
@@ -68,10 +70,14 @@ class MainScreen(KeysFirst, Screen[None]):
         Binding("n", "rename_item", "Name"),
     ]
 
+    SHEET_ACTIONS = frozenset({"save", "undo", "redo", "choose_model", "cycle_units", "reload", "diff", "chart",
+                               "open_other"})
+
     def __init__(self) -> None:
         super().__init__(id="main")
         self.selection: tuple[str, str | None] = ("sheet", None)
         self.active = "streams"
+        self._titles_shown: dict[str, str] = {}
 
     def compose(self) -> ComposeResult:
         yield Banner("", id="banner")
@@ -85,12 +91,13 @@ class MainScreen(KeysFirst, Screen[None]):
                     yield UnitTable(id="units", classes="pane-body")
                 yield DetailPane(id="detail-pane", classes="pane")
         yield StatusLine(id="status")
-        yield Footer()
+        yield KeyFooter()
 
     def on_mount(self) -> None:
         self._apply_layout(self.app.size.width, self.app.size.height)
         self.set_focus(self.query_one(StreamTable))
-        self.refresh_all()
+        if self.app.session is not None:
+            self.refresh_all()
 
     def on_resize(self, event: events.Resize) -> None:
         self._apply_layout(event.size.width, event.size.height)
@@ -111,6 +118,8 @@ class MainScreen(KeysFirst, Screen[None]):
             widget.set_class(pane == self.active, "-active")
             widget.set_class(self.narrow and pane != self.active, "-collapsed")
         self._titles()
+        if self.is_mounted and self.query_one(DetailPane).body_behind and (not self.narrow or self.active == "detail"):
+            self.refresh_detail()
 
     def _titles(self) -> None:
         app = self.app
@@ -125,7 +134,9 @@ class MainScreen(KeysFirst, Screen[None]):
             title = Text.assemble((f"{mark} {PANES.index(pane) + 1} ", "bold"), (text, "bold"))
             if pane == "streams":
                 title.append("   [..] entered in the file, plain = computed", style="dim")
-            self.query_one(f"#{pane}-title", Static).update(title)
+            if self._titles_shown.get(pane) != title.markup:
+                self._titles_shown[pane] = title.markup
+                self.query_one(f"#{pane}-title", Static).update(title)
 
     def _focus_pane(self, pane: str) -> None:
         self.active = pane
@@ -166,7 +177,7 @@ class MainScreen(KeysFirst, Screen[None]):
     def check_action(self, action: str, parameters: tuple) -> bool | None:
         if action in ("move", "edit_field"):
             table = self.focused
-            return isinstance(table, FieldList) if action == "edit_field" else isinstance(table, DataTable)
+            return isinstance(table, FieldList) if action == "edit_field" else isinstance(table, RowTable)
         if action in ("pane", "sheet_settings"):
             return not (self.is_mounted and self.query_one(DetailPane).editing)
         if action == "cancel_edit":
@@ -176,7 +187,7 @@ class MainScreen(KeysFirst, Screen[None]):
         return True
 
     def action_move(self, key: str) -> None:
-        if isinstance(self.focused, DataTable):
+        if isinstance(self.focused, RowTable):
             getattr(self.focused, f"action_{TABLE_MOVES[key]}")()
 
     def action_edit_field(self) -> None:
@@ -226,14 +237,22 @@ class MainScreen(KeysFirst, Screen[None]):
     def document(self) -> Mapping:
         return self.app.document
 
-    def refresh_all(self) -> None:
-        """Redraw everything from the app's session and latest result."""
+    def refresh_banner(self) -> None:
+        """The top line only: file, unsaved mark, equation of state, units."""
         app = self.app
         if app.session is None:
             self.query_one(Banner).show("no sheet", "", False, "", app.system)
             return
         self.query_one(Banner).show(app.session.name, str(self.document.get("title", "")), app.session.dirty,
                                     str(self.document.get("model", "peng-robinson")), app.system)
+
+    def refresh_all(self) -> None:
+        """Redraw everything from the app's session and latest result (each
+        widget redraws only what changed)."""
+        app = self.app
+        self.refresh_banner()
+        if app.session is None:
+            return
         self.query_one(StreamTable).show(app.result, self.document, app.system)
         self.query_one(UnitTable).show(app.result, self.document, app.system)
         self._keep_selection()
@@ -262,7 +281,9 @@ class MainScreen(KeysFirst, Screen[None]):
         app = self.app
         if app.session is None:
             return
-        self.query_one(DetailPane).show(self.selection, app.result, self.document, app.system, app.solve_running)
+        detail = self.query_one(DetailPane)
+        folded = self.narrow and self.active != "detail" and not detail.editing
+        detail.show(self.selection, app.result, self.document, app.system, app.solve_running, folded=folded)
 
     def select(self, kind: str, name: str | None) -> None:
         if (kind, name) != self.selection:

@@ -13,7 +13,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.message import Message
-from textual.widgets import DataTable, Static
+from textual.widgets import Static
 
 from thermo.path import STEP_NAMES
 from thermo.quantities import display_units
@@ -21,6 +21,7 @@ from thermo.quantities import display_units
 from .cells import flag_line, flags_by_place, number
 from .field_editor import FieldEditor
 from .fitted_table import Column, FittedTable
+from .row_table import RowTable
 from .fields import Field, marked, sheet_fields, stream_fields, unit_fields
 
 STEP_WORDS = {
@@ -100,7 +101,7 @@ class FieldList(FittedTable):
         if field is not None:
             self.post_message(self.ClearWanted(field))
 
-    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+    def on_row_table_selected(self, event: RowTable.Selected) -> None:
         event.stop()  # enter is the screen's key (it opens the editor at once); a click lands here
         self.action_edit_field()
 
@@ -113,6 +114,9 @@ class DetailPane(Vertical):
     def __init__(self, **options) -> None:
         super().__init__(**options)
         self.selection: tuple[str, str | None] = ("sheet", None)
+        self._shown: tuple | None = None
+        self._title_shown = ""
+        self.body_behind = False
 
     def compose(self) -> ComposeResult:
         yield Static("", id="detail-title", classes="pane-title")
@@ -135,23 +139,26 @@ class DetailPane(Vertical):
     def editing(self) -> bool:
         return self.editor.display
 
-    def show(self, selection, result, document: Mapping, system: str, stale: bool) -> None:
+    def show(self, selection, result, document: Mapping, system: str, stale: bool, *, folded: bool = False) -> None:
+        """Show ``selection``; ``folded``: only the title line is on screen,
+        so the fields and notes wait (``body_behind``) until it is opened."""
         self.selection = selection
+        self._title(selection, result, document, stale)
+        if folded:
+            self.body_behind = True
+            return
+        self.body_behind = False
+        shown = (selection, system, stale, result, document)
+        last = self._shown
+        if last is not None and shown[:3] == last[:3] and result is last[3] and document is last[4]:
+            return  # the same selection of the same result and text: nothing to redraw
+        self._shown = shown
         kind, name = selection
-        title = self.query_one("#detail-title", Static)
-        stale_word = "  \u2026 computed values are from the last solve" if stale else ""
         places = flags_by_place(result)
         parts: list = []
         if kind == "stream":
             stream = result.streams.get(name) if result is not None else None
             fields = stream_fields(document, name, stream, system)
-            origin = ""
-            if stream is not None:
-                origin = "feed" if stream.is_feed else f"made by {stream.source_unit}"
-            elif isinstance(document.get("streams"), Mapping) and name in document["streams"]:
-                origin = "feed"
-            title.update(Text.assemble(("\u25b8 stream ", "dim"), (name or "", "bold"), f"  {origin}",
-                                       (stale_word, "yellow")))
             parts.extend(self._flags(places.get(name, [])))  # first: on a short terminal the rest may be cut
             parts.extend(self._stream_path(stream, result, system))
             if stream is not None and stream.state.notes:
@@ -160,8 +167,6 @@ class DetailPane(Vertical):
         elif kind == "unit":
             unit = result.units.get(name) if result is not None else None
             fields = unit_fields(document, name, unit, system)
-            title.update(Text.assemble(("\u25b8 unit ", "dim"), (name or "", "bold"),
-                                       f"  {unit.type if unit else ''}", (stale_word, "yellow")))
             parts.extend(self._flags(places.get(name, [])))
             parts.extend(self._unit_path(unit, system))
             if unit is not None and unit.notes:
@@ -169,7 +174,6 @@ class DetailPane(Vertical):
                 parts.extend(Text(f"\u00b7 {note}") for note in unit.notes)
         else:
             fields = sheet_fields(document, result, system)
-            title.update(Text.assemble(("\u25b8 ", "dim"), ("sheet settings", "bold"), (stale_word, "yellow")))
             parts.extend(self._flags(places.get("flowsheet", [])))
             if result is not None and result.errors:
                 parts.append(Text("errors", style="bold underline"))
@@ -178,6 +182,28 @@ class DetailPane(Vertical):
                                       style="bold red"))
         self.field_list.show(fields)
         self.query_one("#detail-notes", Static).update(Group(*parts) if parts else Text(""))
+
+    def _title(self, selection, result, document: Mapping, stale: bool) -> None:
+        kind, name = selection
+        stale_word = "  \u2026 computed values are from the last solve" if stale else ""
+        if kind == "stream":
+            stream = result.streams.get(name) if result is not None else None
+            origin = ""
+            if stream is not None:
+                origin = "feed" if stream.is_feed else f"made by {stream.source_unit}"
+            elif isinstance(document.get("streams"), Mapping) and name in document["streams"]:
+                origin = "feed"
+            title = Text.assemble(("\u25b8 stream ", "dim"), (name or "", "bold"), f"  {origin}",
+                                  (stale_word, "yellow"))
+        elif kind == "unit":
+            unit = result.units.get(name) if result is not None else None
+            title = Text.assemble(("\u25b8 unit ", "dim"), (name or "", "bold"),
+                                  f"  {unit.type if unit else ''}", (stale_word, "yellow"))
+        else:
+            title = Text.assemble(("\u25b8 ", "dim"), ("sheet settings", "bold"), (stale_word, "yellow"))
+        if title.markup != self._title_shown:
+            self._title_shown = title.markup
+            self.query_one("#detail-title", Static).update(title)
 
     def _flags(self, flags: list) -> list:
         if not flags:

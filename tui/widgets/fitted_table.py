@@ -18,7 +18,8 @@ from typing import Sequence, Union
 
 from rich.text import Text
 from textual import events
-from textual.widgets import DataTable
+
+from .row_table import RowTable
 
 CellValue = Union[Text, str, Sequence[Union[Text, str]]]
 
@@ -48,20 +49,13 @@ def _signature(text: Text) -> tuple:
     return (text.plain, str(text.style), tuple(text.spans))
 
 
-class FittedTable(DataTable):
-    """A DataTable laid out by ``fill(columns, rows)``; rows are
-    ``(key, [cell, ...])`` with one cell per column. One blank cell separates
-    columns (cell padding is 0), so a right-aligned column ends flush."""
-
-    DEFAULT_CSS = """
-    FittedTable {
-        scrollbar-size-vertical: 1;
-    }
-    """
+class FittedTable(RowTable):
+    """A RowTable laid out by ``fill(columns, rows)``; rows are
+    ``(key, [cell, ...])`` with one cell per column. One blank cell leads
+    each column, so a right-aligned column ends flush."""
 
     def __init__(self, *, header_height: int = 2, **options) -> None:
-        super().__init__(cursor_type="row", cell_padding=0, header_height=header_height, **options)
-        self.fixed_columns = 1
+        super().__init__(header_height=header_height, **options)
         self._spec: tuple[Column, ...] = ()
         self._rows: list[tuple[str, tuple[tuple[Text, ...], ...]]] = []
         self._shape: tuple = ()
@@ -77,6 +71,7 @@ class FittedTable(DataTable):
         self._lay_out()
 
     def on_resize(self, event: events.Resize) -> None:
+        super().on_resize(event)
         if self._spec:
             self._lay_out()
 
@@ -117,45 +112,41 @@ class FittedTable(DataTable):
 
     def _lay_out(self) -> None:
         level, widths = self._choose()
-        natural = self._widths(level)
-        self.truncated = widths != natural
+        self.truncated = widths != self._widths(level)
         keys = tuple(key for key, _ in self._rows)
-        columns_shape = (tuple((c.key, c.label, c.unit) for c in self._spec), tuple(widths))
-        current = self.current_key
-        if self._shape[:1] != (columns_shape,):
-            self.clear(columns=True)
-            for column, width in zip(self._spec, widths):
-                self.add_column(self._header(column, width), width=width, key=column.key)
-            self._shape = ()
+        shape = (tuple((c.key, c.label, c.unit) for c in self._spec), tuple(widths), keys)
         cells = {key: [self._cell(row[i], level, column, width)
                        for i, (column, width) in enumerate(zip(self._spec, widths))]
                  for key, row in self._rows}
-        if self._shape == (columns_shape, keys):
+        if shape == self._shape:
             for key, row in cells.items():
                 shown = self._shown[key]
                 for index, text in enumerate(row):
                     signature = _signature(text)
                     if shown[index] != signature:
                         shown[index] = signature
-                        self.update_cell(key, self._spec[index].key, text)
+                        self.set_cell(key, index, text)
             return
-        if self._shape:
-            self.clear()
-        for key, row in cells.items():
-            self.add_row(*row, key=key)
+        header = [Text("").join(self._pad(Text(lines[line]), width, column.right)
+                                for column, width in zip(self._spec, widths)
+                                for lines in (self._header_lines(column),))
+                  for line in range(self.header_height)]
+        self.set_rows(header, list(cells.items()), sum(widths))
         self._shown = {key: [_signature(text) for text in row] for key, row in cells.items()}
-        self._shape = (columns_shape, keys)
-        if current in cells:
-            self.move_cursor(row=list(cells).index(current), animate=False)
+        self._shape = shape
+
+    @property
+    def column_keys(self) -> tuple[str, ...]:
+        return tuple(column.key for column in self._spec)
+
+    def column_headers(self) -> list[str]:
+        """Each column's header on one line: ``"T degC"``."""
+        return [f"{column.label} {column.unit}".strip() for column in self._spec]
 
     def _header_lines(self, column: Column) -> list[str]:
         if self.header_height < 2:
             return [f"{column.label} {column.unit}".strip()]
         return [column.label, column.unit] if column.unit else ["", column.label]
-
-    def _header(self, column: Column, width: int) -> Text:
-        lines = self._header_lines(column)
-        return Text("\n".join(self._pad(Text(line), width, column.right).plain for line in lines))
 
     def _cell(self, variants: tuple[Text, ...], level: int, column: Column, width: int) -> Text:
         return self._pad(variants[min(level, len(variants) - 1)], width, column.right)
@@ -173,18 +164,6 @@ class FittedTable(DataTable):
             text.pad_right(width - text.cell_len)
         return text
 
-    # -------------------------------------------------------------- the cursor
-
-    @property
-    def current_key(self) -> str | None:
-        """The key of the row under the cursor."""
-        if not self._rows or self.cursor_row is None or not 0 <= self.cursor_row < len(self._rows):
-            return None
-        if self._shape and self.cursor_row < len(self._shape[1]):
-            return self._shape[1][self.cursor_row]
-        return None
-
     def move_to_key(self, key: str) -> None:
-        keys = self._shape[1] if self._shape else ()
-        if key in keys and self.cursor_row != keys.index(key):
-            self.move_cursor(row=keys.index(key), animate=False)
+        if key in self.keys and self.cursor_row != self.keys.index(key):
+            self.move_cursor(row=self.keys.index(key))

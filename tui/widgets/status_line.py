@@ -47,5 +47,3 @@ class StatusLine(Static):
             text.append("  \u2502 ", style="dim")
             text.append(self.message)
         self.update(text)
-        for state in _MARKS:
-            self.set_class(state == self.state, f"-{state}")

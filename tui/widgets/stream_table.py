@@ -6,12 +6,12 @@ from typing import Mapping
 
 from rich.text import Text
 from textual.message import Message
-from textual.widgets import DataTable
 
 from thermo.quantities import display_units, format_number
 
 from .cells import cell, entered_quantities, flag_variants, flags_by_place, number
 from .fitted_table import Column, FittedTable
+from .row_table import RowTable
 
 # The phase word spelled out, and shortened for a narrow terminal.
 PHASE_WORDS = {
@@ -94,12 +94,10 @@ class StreamTable(FittedTable):
     def select_name(self, name: str) -> None:
         self.move_to_key(name)
 
-    def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
+    def on_row_table_highlighted(self, event: RowTable.Highlighted) -> None:
         event.stop()
-        if event.row_key is not None and event.row_key.value is not None:
-            self.post_message(self.Picked(event.row_key.value))
+        self.post_message(self.Picked(event.key))
 
-    def on_data_table_row_selected(self, event: DataTable.RowSelected) -> None:
+    def on_row_table_selected(self, event: RowTable.Selected) -> None:
         event.stop()
-        if event.row_key is not None and event.row_key.value is not None:
-            self.post_message(self.Opened(event.row_key.value))
+        self.post_message(self.Opened(event.key))
