@@ -353,6 +353,12 @@ def test_enthalpy_is_continuous_across_the_water_liquid_boundary():
     assert steps.max() < 3.0 * steps.min()
 
 
+def test_vapor_fraction_flash_refuses_a_point_where_a_second_liquid_forms():
+    model = make_model("peng-robinson", make_mixture(WET_GAS_NAMES))
+    with pytest.raises(FlashError, match="another liquid would form"):
+        flash_pv(model, 41.3e5, 0.3, WET_GAS)
+
+
 # --- models without a liquid -------------------------------------------------------------
 @pytest.mark.parametrize("name", ["virial", "ideal-gas"])
 def test_vapor_only_models(name):

@@ -713,8 +713,29 @@ def envelope(model, x: np.ndarray, vapor_fraction: float, temperature: float | N
                              np.zeros(size), point.fugacity_error)
     kernel = kernel_for(model, active)
     found = envelope_point(kernel, z[list(active)], float(vapor_fraction), fixed, value, where)
+    _check_envelope_stability(kernel, found, where)
     return EnvelopePoint(found.temperature, found.pressure, found.vapor_fraction, _embed(found.x, active, size),
                          _embed(found.y, active, size), _embed(found.ln_k, active, size), found.fugacity_error)
+
+
+def _check_envelope_stability(kernel: CubicKernel, point: EnvelopePoint, where) -> None:
+    """Refuse an envelope point whose liquid is itself unstable: another
+    phase (a second liquid, as water with hydrocarbons) would have formed
+    first, and the two-phase envelope point is not the equilibrium."""
+    state = kernel.at(point.temperature, point.pressure)
+    k_wilson = wilson_k(kernel.tc, kernel.pc, kernel.omega, point.temperature, point.pressure)
+    try:
+        # The liquid and the feed share the tangent plane only where a liquid exists;
+        # test the liquid (at a dew point, the incipient drop).
+        stability = stability_test(state, point.x, k_wilson, vapor_trial=False)
+    except StabilityError:
+        return
+    if not stability.stable:
+        raise FlashError(
+            f"{where}: at the point found (T = {point.temperature:.6g} K, P = {point.pressure:.6g} Pa) "
+            "another liquid would form, so it is not the equilibrium; bubble points, dew points and "
+            "vapor-fraction flashes look for two phases only (use a TP, PH or PS flash there)"
+        )
 
 
 def bubble_pressure(model, temperature: float, x: np.ndarray) -> float:
