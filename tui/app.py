@@ -145,10 +145,7 @@ class StatepathApp(App[int]):
         self.push_screen(StartScreen(self.recent.existing(), message))
 
     def _leave_start(self) -> None:
-        from tui.screens.problems import ProblemsScreen
-        from tui.screens.start import StartScreen
-
-        while isinstance(self.screen, (StartScreen, ProblemsScreen)):
+        while type(self.screen).__name__ in ("StartScreen", "ProblemsScreen"):
             self.pop_screen()
 
     def open_path(self, path: str) -> None:
@@ -257,9 +254,7 @@ class StatepathApp(App[int]):
     def say(self, message: str) -> None:
         """Show ``message`` in the status line (no timed pop-ups: they would
         vanish before an engineer on a slow link reads them)."""
-        from tui.screens.start import StartScreen
-
-        if isinstance(self.screen, StartScreen):
+        if type(self.screen).__name__ == "StartScreen":
             self.screen.say(message)
         if self.main_screen is not None and self.main_screen.is_mounted:
             self.main_screen.query_one(StatusLine).say(message)
@@ -786,10 +781,9 @@ class StatepathApp(App[int]):
         self._redraw_chart()
 
     def _redraw_chart(self) -> None:
-        from tui.screens.chart import ChartScreen
-
+        # Looked up by name: no chart open, nothing of the chart imported.
         for screen in self.screen_stack:
-            if isinstance(screen, ChartScreen):
+            if type(screen).__name__ == "ChartScreen":
                 self._ensure_dome()
                 screen.redraw()
 

@@ -35,7 +35,8 @@ class ChoiceScreen(ModalScreen[str | None]):
                 yield Static(self.detail, classes="dialog-detail")
             with Horizontal(classes="dialog-buttons"):
                 for key, label in self.answers:
-                    yield Button(label, id=f"answer-{key}")
+                    # The first letter is the answer's key: underlined, so it shows.
+                    yield Button(Text.assemble((label[:1], "underline"), label[1:]), id=f"answer-{key}")
 
     def on_mount(self) -> None:
         self.query(Button).first().focus()
@@ -203,7 +204,8 @@ class DiffScreen(ModalScreen[str | None]):
                     yield Static(Text("no differences", style="italic"))
             with Horizontal(classes="dialog-buttons"):
                 for key, label in self.answers:
-                    yield Button(label, id=f"answer-{key}")
+                    # The first letter is the answer's key: underlined, so it shows.
+                    yield Button(Text.assemble((label[:1], "underline"), label[1:]), id=f"answer-{key}")
                 yield Button("Close", id="answer-close")
 
     def on_mount(self) -> None:

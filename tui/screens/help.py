@@ -23,7 +23,9 @@ KEYS = (
         ("g", "sheet settings (title, dead state, site limits) in the detail pane"),
     )),
     ("Editing", (
-        ("e  or  enter", "edit the field under the cursor: type the value with its unit (45 barg, 120 degF)"),
+        ("e  or  enter", "edit the field under the cursor: type the value with its unit (45 barg, 120 degF); "
+                         "the text written before starts selected, so typing replaces it (\u2190 \u2192 to change it "
+                         "instead); enter accepts, escape cancels"),
         ("x  or  delete", "in the detail pane: clear that field; elsewhere: remove the stream or unit"),
         ("a", "add a stream or a unit"),
         ("n", "rename the selected stream or unit (every reference follows)"),
@@ -65,6 +67,14 @@ def help_text() -> Group:
         "'computed' column the solved value in the display units. A dash in brackets-place means "
         "the file does not set that field; 'or' marks another way to give the same specification "
         "(setting it replaces the one written)."))
+    parts.append(Text(""))
+    parts.append(Text("The stream table", style="bold underline"))
+    parts.append(Text(
+        "The phase column gives the phase, and the vapor fraction where it says something: "
+        "'two-phase 0.437' (on a narrow terminal '2\u03c6 0.437') is two-phase with vapor fraction 0.437; "
+        "'supercrit.' is supercritical; 'liquid [0.00]' is a vapor fraction the sheet fixes. "
+        "A name too long for the terminal's width ends in \u2026 (the detail pane has it whole). "
+        "The row under the cursor starts with \u25b8."))
     parts.append(Text(""))
     parts.append(Text("Flags", style="bold underline"))
     flags = Table(box=None, show_header=False, pad_edge=False)

@@ -59,7 +59,7 @@ class FieldList(FittedTable):
             super().__init__()
 
     def __init__(self, **options) -> None:
-        super().__init__(header_height=1, **options)
+        super().__init__(one_line_header=True, **options)
         self.fields: list[Field] = []
 
     def show(self, fields: list[Field]) -> None:

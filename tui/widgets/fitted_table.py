@@ -28,7 +28,8 @@ CellValue = Union[Text, str, Sequence[Union[Text, str]]]
 class Column:
     """``label`` over ``unit`` in the header; ``right`` aligns numbers;
     ``shrink`` marks a column that is cut (to ``min_width``) when space runs
-    out: 1 is cut first, then 2 ...; 0 never."""
+    out: 1 is cut first, then 2 ...; 0 never. A newline in ``unit`` breaks
+    the header there (see ``header_unit``)."""
 
     key: str
     label: str
@@ -36,6 +37,12 @@ class Column:
     right: bool = False
     shrink: int = 0
     min_width: int = 6
+
+
+def header_unit(unit: str) -> str:
+    """A long unit broken at its space, so that the column stays as narrow
+    as its numbers: ``"Btu/(lbmol\\ndegR)"`` (the command line's rule)."""
+    return unit.replace(" ", "\n", 1) if len(unit) > 11 and " " in unit else unit
 
 
 def _variants(value: CellValue) -> tuple[Text, ...]:
@@ -54,8 +61,11 @@ class FittedTable(RowTable):
     ``(key, [cell, ...])`` with one cell per column. One blank cell leads
     each column, so a right-aligned column ends flush."""
 
-    def __init__(self, *, header_height: int = 2, **options) -> None:
-        super().__init__(header_height=header_height, **options)
+    def __init__(self, *, one_line_header: bool = False, **options) -> None:
+        super().__init__(header_height=1 if one_line_header else 2, **options)
+        # Label over unit (a long unit broken at its space, as the command
+        # line's tables do), or label and unit on one line.
+        self.one_line_header = one_line_header
         self._spec: tuple[Column, ...] = ()
         self._rows: list[tuple[str, tuple[tuple[Text, ...], ...]]] = []
         self._shape: tuple = ()
@@ -127,10 +137,16 @@ class FittedTable(RowTable):
                         shown[index] = signature
                         self.set_cell(key, index, text)
             return
-        header = [Text("").join(self._pad(Text(lines[line]), width, column.right)
-                                for column, width in zip(self._spec, widths)
-                                for lines in (self._header_lines(column),))
-                  for line in range(self.header_height)]
+        if not self.one_line_header:
+            self.header_height = max(2, *(len(self._header_lines(column)) for column in self._spec))
+        header = []
+        for line in range(self.header_height):
+            parts = []
+            for column, width in zip(self._spec, widths):
+                lines = self._header_lines(column)
+                lines = [""] * (self.header_height - len(lines)) + lines  # label and unit sit on the rows
+                parts.append(self._pad(Text(lines[line]), width, column.right))
+            header.append(Text("").join(parts))
         self.set_rows(header, list(cells.items()), sum(widths))
         self._shown = {key: [_signature(text) for text in row] for key, row in cells.items()}
         self._shape = shape
@@ -141,12 +157,12 @@ class FittedTable(RowTable):
 
     def column_headers(self) -> list[str]:
         """Each column's header on one line: ``"T degC"``."""
-        return [f"{column.label} {column.unit}".strip() for column in self._spec]
+        return [" ".join(f"{column.label} {column.unit}".split()) for column in self._spec]
 
     def _header_lines(self, column: Column) -> list[str]:
-        if self.header_height < 2:
-            return [f"{column.label} {column.unit}".strip()]
-        return [column.label, column.unit] if column.unit else ["", column.label]
+        if self.one_line_header:
+            return [" ".join(f"{column.label} {column.unit}".split())]
+        return [column.label, *column.unit.split("\n")] if column.unit else [column.label]
 
     def _cell(self, variants: tuple[Text, ...], level: int, column: Column, width: int) -> Text:
         return self._pad(variants[min(level, len(variants) - 1)], width, column.right)

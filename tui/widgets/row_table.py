@@ -7,7 +7,8 @@ where Textual's DataTable lays out and renders every cell of every line
 again. The header stays put while the rows scroll.
 
 Keys: up, down, page up/down, home, end move the cursor; enter chooses the
-row. A click moves the cursor there and chooses the row.
+row. A click moves the cursor there and chooses the row. The cursor row
+starts with a triangle besides its colour.
 """
 
 from __future__ import annotations
@@ -23,6 +24,9 @@ from textual.geometry import Size
 from textual.message import Message
 from textual.scroll_view import ScrollView
 from textual.strip import Strip
+
+
+CURSOR_MARK = "\u25b8"
 
 
 class RowTable(ScrollView, can_focus=True):
@@ -237,6 +241,14 @@ class RowTable(ScrollView, can_focus=True):
         line.pad_right(max(0, self._width - line.cell_len))
         return line
 
+    def _row_line(self, key: str, cursor: bool) -> Text:
+        line = Text.assemble(*self._cells[key])
+        if cursor and line.plain.startswith(" "):
+            # The cursor row is marked by a sign too, not by its colour alone
+            # (NO_COLOR, a monochrome terminal).
+            line = Text.assemble(CURSOR_MARK, line[1:])
+        return line
+
     def render_line(self, y: int) -> Strip:
         width = self.scrollable_content_region.width
         base = self.rich_style
@@ -253,5 +265,5 @@ class RowTable(ScrollView, can_focus=True):
         key = self._keys[index]
         cursor = index == self.cursor_row
         cursor_style = self.get_component_rich_style("row-table--cursor") if cursor else None
-        strip = self._strip((key, cursor), lambda: Text.assemble(*self._cells[key]), base, cursor_style)
+        strip = self._strip((key, cursor), lambda: self._row_line(key, cursor), base, cursor_style)
         return strip.crop_extend(scroll_x, scroll_x + width, base + cursor_style if cursor_style else base)

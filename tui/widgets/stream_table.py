@@ -10,7 +10,7 @@ from textual.message import Message
 from thermo.quantities import display_units, format_number
 
 from .cells import cell, entered_quantities, flag_variants, flags_by_place, number
-from .fitted_table import Column, FittedTable
+from .fitted_table import Column, FittedTable, header_unit
 from .row_table import RowTable
 
 # The phase word spelled out, and shortened for a narrow terminal.
@@ -41,12 +41,12 @@ def phase_cell(phase: str, vapor_fraction: float, entered: bool) -> tuple[Text, 
 def stream_columns(system: str) -> tuple[Column, ...]:
     return (
         Column("name", "stream", shrink=1, min_width=8),
-        Column("T", "T", display_units("temperature", system), right=True),
-        Column("P", "P", display_units("pressure", system), right=True),
-        Column("flow", "flow", display_units("molar_flow", system), right=True),
+        Column("T", "T", header_unit(display_units("temperature", system)), right=True),
+        Column("P", "P", header_unit(display_units("pressure", system)), right=True),
+        Column("flow", "flow", header_unit(display_units("molar_flow", system)), right=True),
         Column("phase", "phase", "vap. frac"),
-        Column("H", "H", display_units("molar_energy", system), right=True),
-        Column("S", "S", display_units("molar_entropy", system), right=True),
+        Column("H", "H", header_unit(display_units("molar_energy", system)), right=True),
+        Column("S", "S", header_unit(display_units("molar_entropy", system)), right=True),
         Column("flags", "flags"),
     )
 

@@ -10,7 +10,7 @@ from textual.message import Message
 from thermo.quantities import display_units
 
 from .cells import cell, flag_variants, flags_by_place, number
-from .fitted_table import Column, FittedTable
+from .fitted_table import Column, FittedTable, header_unit
 from .row_table import RowTable
 
 
@@ -20,7 +20,7 @@ def unit_columns(system: str) -> tuple[Column, ...]:
         Column("name", "unit", shrink=1, min_width=8),
         Column("type", "type"),
         Column("energy", "duty/power", power, right=True),
-        Column("sgen", "S gen", display_units("entropy_rate", system), right=True),
+        Column("sgen", "S gen", header_unit(display_units("entropy_rate", system)), right=True),
         Column("lost", "lost work", power, right=True),
         Column("flags", "flags"),
     )
