@@ -96,20 +96,26 @@ def _wilson_free_variable(kernel, z, beta, spec, value, other_guess):
 
 
 def envelope_point(kernel: CubicKernel, z: np.ndarray, beta: float, spec: str, value: float,
-                   where: str, other_guess: float | None = None) -> EnvelopePoint:
+                   where: str, other_guess: float | None = None,
+                   start: tuple[np.ndarray, float] | None = None) -> EnvelopePoint:
     """The envelope point of feed z (all fractions positive, over the kernel's
     active components) at vapor fraction ``beta`` with temperature
     (``spec`` "T", ``value`` K) or pressure ("P", Pa) fixed; ``where``
-    describes the request for error messages."""
-    ln_free = _wilson_free_variable(kernel, z, beta, spec, value, other_guess)
-    if not math.isfinite(ln_free):
-        raise FlashError(f"{where}: no starting estimate from Wilson's K-values")
+    describes the request for error messages. ``start`` = (ln K, the free
+    variable in K or Pa) from a nearby split skips Wilson's estimate."""
 
     def temperature_pressure(ln_free_value):
         if spec == "T":
             return value, math.exp(ln_free_value)
         return math.exp(ln_free_value), value
 
+    if start is not None:
+        ln_k, ln_free = np.array(start[0], dtype=float), math.log(start[1])
+        t, p = temperature_pressure(ln_free)
+        return _newton_point(kernel, z, beta, spec, value, where, ln_k, ln_free, temperature_pressure)
+    ln_free = _wilson_free_variable(kernel, z, beta, spec, value, other_guess)
+    if not math.isfinite(ln_free):
+        raise FlashError(f"{where}: no starting estimate from Wilson's K-values")
     t, p = temperature_pressure(ln_free)
     ln_k = np.log(wilson_k(kernel.tc, kernel.pc, kernel.omega, t, p))
     # Substitution steps: update K from fugacities, then the free variable from E_n
@@ -142,7 +148,12 @@ def envelope_point(kernel: CubicKernel, z: np.ndarray, beta: float, spec: str, v
         ln_k = ln_k + sensitivity * shift
         ln_free += shift
         t, p = temperature_pressure(ln_free)
+    return _newton_point(kernel, z, beta, spec, value, where, ln_k, ln_free, temperature_pressure)
 
+
+def _newton_point(kernel, z, beta, spec, value, where, ln_k, ln_free, temperature_pressure) -> EnvelopePoint:
+    """Newton's method on (ln K, ln T or ln P) from the start given."""
+    t, p = temperature_pressure(ln_free)
     size = len(z)
     for iteration in range(NEWTON_STEPS):
         state = kernel.at(t, p)

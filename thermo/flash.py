@@ -712,10 +712,97 @@ def envelope(model, x: np.ndarray, vapor_fraction: float, temperature: float | N
         return EnvelopePoint(point.temperature, point.pressure, float(vapor_fraction), z.copy(), z.copy(),
                              np.zeros(size), point.fugacity_error)
     kernel = kernel_for(model, active)
-    found = envelope_point(kernel, z[list(active)], float(vapor_fraction), fixed, value, where)
+    za = z[list(active)]
+    try:
+        found = envelope_point(kernel, za, float(vapor_fraction), fixed, value, where)
+    except FlashError as direct:
+        # Newton's method from Wilson's estimate can fall onto the trivial
+        # solution or wander; bracket the point with equilibrium flashes instead.
+        found = _envelope_by_bracket(kernel, za, float(vapor_fraction), fixed, value, where, direct)
     _check_envelope_stability(kernel, found, where)
     return EnvelopePoint(found.temperature, found.pressure, found.vapor_fraction, _embed(found.x, active, size),
                          _embed(found.y, active, size), _embed(found.ln_k, active, size), found.fugacity_error)
+
+
+ENVELOPE_GRID = 40  # temperatures or pressures scanned by the bracketing route
+
+
+def _envelope_by_bracket(kernel: CubicKernel, z: np.ndarray, beta: float, fixed: str, value: float, where,
+                         direct: FlashError) -> EnvelopePoint:
+    """The envelope point found by scanning the equilibrium vapor fraction
+    over temperature (pressure fixed) or pressure (temperature fixed),
+    bisecting the first interval that crosses ``beta``, and finishing with
+    Newton's method from the split found there."""
+    if fixed == "P":
+        grid = np.geomspace(max(20.0, 0.25 * float(kernel.tc.min())), min(3000.0, 3.0 * float(kernel.tc.max())),
+                            ENVELOPE_GRID)
+
+        def state_at(u):
+            return u, value
+    else:
+        grid = np.geomspace(5e8, 1e2, ENVELOPE_GRID)  # falling pressure: the vapor fraction rises along it
+
+        def state_at(u):
+            return value, u
+
+    def signed(u):
+        """(vapor fraction minus beta with ties broken toward the ends, split or None)."""
+        t, p = state_at(u)
+        eq = _equilibrium(kernel, t, p, z, where)
+        fraction = _vapor_amount(eq)
+        if beta == 0.0:
+            return (fraction if fraction > 0.0 else -1.0), eq.split
+        if beta == 1.0:
+            return (1.0 if fraction >= 1.0 else fraction - 1.0), eq.split
+        return fraction - beta, eq.split
+
+    previous = None
+    for u in grid:
+        g, result = signed(float(u))
+        if previous is not None and previous[1] < 0.0 <= g:
+            low, high = previous[0], float(u)
+            low_split, high_split = previous[2], result
+            break
+        previous = (float(u), g, result)
+    else:
+        raise FlashError(f"{where}: no point found ({direct}); no equilibrium flash between "
+                         f"{grid[0]:.4g} and {grid[-1]:.4g} {'K' if fixed == 'P' else 'Pa'} crosses it either")
+    for _ in range(60):
+        middle = math.sqrt(low * high)
+        g, result = signed(middle)
+        if g < 0.0:
+            low, low_split = middle, result
+        else:
+            high, high_split = middle, result
+        if abs(high - low) <= 1e-9 * high:
+            break
+    # Newton's finish from the two-phase end of the bracket.
+    end, split_end = (high, high_split) if high_split is not None else (low, low_split)
+    if split_end is None:
+        raise FlashError(f"{where}: no point found ({direct}); the bracket holds no two-phase state")
+    return envelope_point(kernel, z, beta, fixed, value, where, start=(split_end.ln_k, end))
+
+
+def _vapor_amount(eq: _Equilibrium) -> float:
+    """Moles of vapor per mole of feed in an equilibrium: the lighter phase
+    of a split unless both are liquids; a lone phase counts as vapor unless
+    its root is liquid-like."""
+    state = eq.state
+    if eq.split is not None:
+        result = eq.split
+        if LIQUID_LIQUID in eq.notes:
+            return 0.0
+        return result.beta if result.props_y.molar_volume >= result.props_x.molar_volume else 1.0 - result.beta
+    if eq.multi is not None:
+        volumes = []
+        for row in eq.multi.compositions:
+            big_a = float(row @ state.big_a @ row)
+            big_b = float(state.big_b @ row)
+            z, _, liquid = state._choose(big_a, big_b, "auto")
+            volumes.append((z, liquid))
+        lightest = int(np.argmax([v[0] for v in volumes]))
+        return 0.0 if volumes[lightest][1] else float(eq.multi.amounts[lightest])
+    return 0.0 if state.ln_phi(eq.z)[2] else 1.0
 
 
 def _check_envelope_stability(kernel: CubicKernel, point: EnvelopePoint, where) -> None:
