@@ -25,6 +25,7 @@ from thermo.errors import FileChangedOnDisk, QuantityError, SaveError, SheetEdit
 from thermo.quantities import UNIT_SYSTEMS
 from thermo.spec import LIST_ROLES, MODELS, SPEC_KEY_KINDS, UNIT_TYPES
 from tui.session import Recovery, RecentFiles, Session, config_dir, find_recovery
+from tui.widgets.field_editor import caught_up
 from tui.widgets.status_line import FAILED, SOLVED, STALE, StatusLine
 
 MODEL_LABELS = {
@@ -91,18 +92,25 @@ class StatepathApp(App[int]):
 
     CSS_PATH = "app.tcss"
     TITLE = "statepath"
+    # Letter keys are taken first (priority, through ``typed``) so that what
+    # they open has the focus before the next key is read; they stand aside
+    # when a text box has the focus (check_action), so they can be typed.
     BINDINGS = [
-        Binding("question_mark,f1", "help", "Help"),
-        Binding("ctrl+s,w", "save", "Save", key_display="^s"),
-        Binding("z,ctrl+z", "undo", "Undo"),
-        Binding("y,ctrl+y", "redo", "Redo"),
-        Binding("m", "choose_model", "EOS"),
-        Binding("u", "cycle_units", "Units"),
-        Binding("c", "chart", "Chart"),
+        Binding("question_mark", "typed('help')", "Help", key_display="?", priority=True),
+        Binding("f1", "help", "Help"),
+        Binding("ctrl+s", "save", "Save", key_display="^s"),
+        Binding("w", "typed('save')", "Save", show=False, priority=True),
+        Binding("z", "typed('undo')", "Undo", priority=True),
+        Binding("ctrl+z", "undo", "Undo", show=False),
+        Binding("y", "typed('redo')", "Redo", priority=True),
+        Binding("ctrl+y", "redo", "Redo", show=False),
+        Binding("m", "typed('choose_model')", "EOS", priority=True),
+        Binding("u", "typed('cycle_units')", "Units", priority=True),
+        Binding("c", "typed('chart')", "Chart", priority=True),
         Binding("ctrl+q", "quit", "Quit", priority=True),
-        Binding("r", "reload", "Reload", show=False),
-        Binding("d", "diff", "Diff", show=False),
-        Binding("o", "open_other", "Open", show=False),
+        Binding("r", "typed('reload')", "Reload", show=False, priority=True),
+        Binding("d", "typed('diff')", "Diff", show=False, priority=True),
+        Binding("o", "typed('open_other')", "Open", show=False, priority=True),
     ]
 
     def __init__(self, path: str | os.PathLike | None = None, *, system: str = "metric",
@@ -549,7 +557,19 @@ class StatepathApp(App[int]):
 
     # -------------------------------------------------------------- actions
 
+    async def action_typed(self, action: str) -> None:
+        """A letter key's action, then a wait until the screen it may have
+        opened is up and has its focus, so that the keys typed next go there."""
+        await self.run_action(action)
+        await caught_up(self.screen)
+
     def check_action(self, action: str, parameters: tuple) -> bool | None:
+        if action == "typed":
+            from textual.widgets import Input
+
+            if isinstance(self.focused, Input):
+                return False  # the letter is typed into the box
+            action, parameters = parameters[0], ()
         # Screens say which of the sheet's actions they offer (``SHEET_ACTIONS``
         # of MainScreen: all; of ChartScreen: the units), so that asking does
         # not import them.

@@ -147,3 +147,31 @@ def test_footer_keeps_help_save_quit_and_palette_at_80_columns(sheet_path, envir
                     assert found and right_edges[found[0]] <= 68, (key, shown)
 
     run(scenario())
+
+
+def test_a_burst_in_the_add_form_fills_each_field_in_order(sheet_path, environ):
+    async def scenario():
+        app = _app(sheet_path, environ)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await settle(app, pilot)
+            # a: add a feed; each field's text starts selected, so typing replaces it
+            burst(app, "1", "a", *typed("spare-feed"), "enter", *typed("40 degC"), "enter", *typed("12 barg"),
+                  "enter", *typed("90 kmol/h"), "enter", "enter")
+            await _caught_up(app, pilot)
+            assert app.document["streams"]["spare-feed"] == {
+                "temperature": "40 degC", "pressure": "12 barg", "flow": "90 kmol/h",
+                "composition": app.document["streams"]["well-gas"]["composition"]}
+
+    run(scenario())
+
+
+def test_a_burst_in_the_rename_prompt(sheet_path, environ):
+    async def scenario():
+        app = _app(sheet_path, environ)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await settle(app, pilot)
+            burst(app, "2", "n", *typed("pressure-cux"), "backspace", *typed("tter"), "enter")
+            await _caught_up(app, pilot)
+            assert "pressure-cutter" in app.document["units"]
+
+    run(scenario())

@@ -14,6 +14,8 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, OptionList, Static
 from textual.widgets.option_list import Option
 
+from tui.widgets.field_editor import EntryBox, caught_up
+
 
 class ChoiceScreen(ModalScreen[str | None]):
     """A question with a few answers; returns the chosen key, None on escape.
@@ -39,7 +41,7 @@ class ChoiceScreen(ModalScreen[str | None]):
                     yield Button(Text.assemble((label[:1], "underline"), label[1:]), id=f"answer-{key}")
 
     def on_mount(self) -> None:
-        self.query(Button).first().focus()
+        self.set_focus(self.query(Button).first())
 
     def on_button_pressed(self, event: Button.Pressed) -> None:
         event.stop()
@@ -78,7 +80,7 @@ class PickScreen(ModalScreen[str | None]):
         keys = [key for key, _ in self.options]
         if self.current in keys:
             listing.highlighted = keys.index(self.current)
-        listing.focus()
+        self.set_focus(listing)
 
     def on_option_list_option_selected(self, event: OptionList.OptionSelected) -> None:
         event.stop()
@@ -93,9 +95,10 @@ Checker = Callable[[str], str | None]  # the entry -> an error message, or None 
 
 class PromptScreen(ModalScreen[str | None]):
     """One line of text; ``check`` runs on enter and a message it returns is
-    shown beside the box instead of closing."""
+    shown beside the box instead of closing. Enter is taken first and waits
+    for the box, so a burst of keys (tmux, a slow link) is read in order."""
 
-    BINDINGS = [Binding("escape", "dismiss_none", "Cancel")]
+    BINDINGS = [Binding("escape", "dismiss_none", "Cancel"), Binding("enter", "accept", "Accept", priority=True)]
 
     def __init__(self, question: str, value: str = "", check: Checker | None = None, hint: str = "") -> None:
         super().__init__()
@@ -109,15 +112,23 @@ class PromptScreen(ModalScreen[str | None]):
             yield Static(self.question, classes="dialog-question")
             if self.hint:
                 yield Static(self.hint, classes="dialog-detail")
-            yield Input(self.value, id="prompt-input")
+            yield EntryBox(self.value, id="prompt-input")
             yield Static("", id="prompt-error", classes="dialog-error")
 
     def on_mount(self) -> None:
-        self.query_one(Input).focus()
+        self.set_focus(self.query_one(Input))
+
+    async def action_accept(self) -> None:
+        box = self.query_one(Input)
+        await caught_up(box)
+        self._accept(box.value)
 
     def on_input_submitted(self, event: Input.Submitted) -> None:
         event.stop()
-        value = event.value.strip()
+        self._accept(event.value)
+
+    def _accept(self, value: str) -> None:
+        value = value.strip()
         if self.check is not None:
             error = self.check(value)
             if error:
@@ -133,7 +144,8 @@ class FormScreen(ModalScreen[dict | None]):
     """Several labelled fields; ``check`` gets them all on enter in the last
     field (or ctrl+s) and returns an error message or None to accept."""
 
-    BINDINGS = [Binding("escape", "dismiss_none", "Cancel"), Binding("ctrl+s", "submit", "Accept")]
+    BINDINGS = [Binding("escape", "dismiss_none", "Cancel"), Binding("ctrl+s", "submit", "Accept"),
+                Binding("enter", "next_field", "Next", show=False, priority=True)]
 
     def __init__(self, title: str, fields: Sequence[tuple[str, str, str]],
                  check: Callable[[dict], str | None] | None = None, hint: str = "") -> None:
@@ -152,21 +164,31 @@ class FormScreen(ModalScreen[dict | None]):
                 for key, label, value in self.fields:
                     with Horizontal(classes="form-row"):
                         yield Label(label, classes="form-label")
-                        yield Input(value, id=f"form-{key}", classes="form-input")
+                        yield EntryBox(value, id=f"form-{key}", classes="form-input")
             yield Static("", id="form-error", classes="dialog-error")
 
     def on_mount(self) -> None:
-        self.query(Input).first().focus()
+        self.set_focus(self.query(Input).first())
 
     def values(self) -> dict:
         return {key: self.query_one(f"#form-{key}", Input).value.strip() for key, _, _ in self.fields}
 
+    async def action_next_field(self) -> None:
+        """Enter: the next field, or accept on the last one (once the box
+        has the keys typed before enter)."""
+        if isinstance(self.focused, Input):
+            await caught_up(self.focused)
+            self._next_after(self.focused)
+
     def on_input_submitted(self, event: Input.Submitted) -> None:
         event.stop()
+        self._next_after(event.input)
+
+    def _next_after(self, box: Input) -> None:
         inputs = list(self.query(Input))
-        position = inputs.index(event.input)
+        position = inputs.index(box)
         if position < len(inputs) - 1:
-            inputs[position + 1].focus()
+            self.set_focus(inputs[position + 1])
             return
         self.action_submit()
 
@@ -209,12 +231,19 @@ class DiffScreen(ModalScreen[str | None]):
                 yield Button("Close", id="answer-close")
 
     def on_mount(self) -> None:
-        self.query_one("#diff-body").focus()
+        self.set_focus(self.query_one("#diff-body"))
 
     def on_button_pressed(self, event: Button.Pressed) -> None:
         event.stop()
         key = event.button.id.removeprefix("answer-")
         self.dismiss(None if key == "close" else key)
+
+    def on_key(self, event) -> None:
+        for key, label in self.answers:  # the underlined first letter answers, as in ChoiceScreen
+            if event.character and label[:1].lower() == event.character.lower():
+                event.stop()
+                self.dismiss(key)
+                return
 
     def action_dismiss_none(self) -> None:
         self.dismiss(None)

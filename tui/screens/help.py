@@ -113,7 +113,7 @@ class HelpScreen(ModalScreen[None]):
         yield Footer()
 
     def on_mount(self) -> None:
-        self.query_one("#help-body").focus()
+        self.set_focus(self.query_one("#help-body"))
 
     def action_close(self) -> None:
         self.dismiss(None)

@@ -9,7 +9,7 @@ FIRST_ACTIONS = ("help", "save", "quit", "edit_field", "cancel_edit")
 
 class KeysFirst:
     """Mixin for a Screen: its ``active_bindings`` (what the footer lists)
-    in the order above; the same bindings, only reordered."""
+    in the order above, one key for each description shown."""
 
     @property
     def active_bindings(self):
@@ -17,6 +17,17 @@ class KeysFirst:
 
         def rank(item) -> int:
             action = item[1].binding.action
+            if action.startswith("typed("):  # a letter key of the app (StatepathApp.action_typed)
+                action = action[len("typed("):].strip("')\"")
             return FIRST_ACTIONS.index(action) if action in FIRST_ACTIONS else len(FIRST_ACTIONS)
 
-        return dict(sorted(bindings.items(), key=rank))
+        # One key per thing the footer names: "? Help", or "f1 Help" where a
+        # text box takes the "?".
+        listed, described = {}, set()
+        for key, active in sorted(bindings.items(), key=rank):
+            if active.binding.show:
+                if active.binding.description in described:
+                    continue
+                described.add(active.binding.description)
+            listed[key] = active
+        return listed

@@ -4,7 +4,6 @@ title line (tab moves between them)."""
 
 from __future__ import annotations
 
-import asyncio
 from typing import Mapping
 
 from rich.text import Text
@@ -20,7 +19,7 @@ from tui.screens.key_order import KeysFirst
 from tui.widgets.key_footer import KeyFooter
 from tui.widgets.banner import Banner
 from tui.widgets.detail_pane import DetailPane, FieldList
-from tui.widgets.field_editor import FieldEditor
+from tui.widgets.field_editor import FieldEditor, caught_up
 from tui.widgets.row_table import RowTable
 from tui.widgets.status_line import StatusLine
 from tui.widgets.stream_table import StreamTable
@@ -32,16 +31,6 @@ TABLE_MOVES = {"up": "cursor_up", "down": "cursor_down", "pageup": "page_up", "p
                "home": "scroll_top", "end": "scroll_bottom", "ctrl+home": "scroll_top", "ctrl+end": "scroll_bottom"}
 NARROW_WIDTH = 100  # columns below which one pane is open at a time
 SHORT_HEIGHT = 30  # rows below which, likewise
-
-
-async def caught_up(widget, timeout: float = 0.5) -> None:
-    """Wait until ``widget`` has handled the messages (keys) already sent to it."""
-    done = asyncio.Event()
-    widget.call_later(done.set)
-    try:
-        await asyncio.wait_for(done.wait(), timeout)
-    except asyncio.TimeoutError:
-        pass
 
 
 class MainScreen(KeysFirst, Screen[None]):
@@ -65,9 +54,9 @@ class MainScreen(KeysFirst, Screen[None]):
         Binding("escape", "cancel_edit", "Cancel edit", priority=True),
         Binding("escape", "back", "Back", show=False, priority=True),
         *[Binding(key, f"move('{key}')", show=False, priority=True) for key in TABLE_MOVES],
-        Binding("a", "add_item", "Add"),
-        Binding("x,delete", "remove_item", "Del"),
-        Binding("n", "rename_item", "Name"),
+        Binding("a", "add_item", "Add", priority=True),
+        Binding("x,delete", "remove_item", "Del", priority=True),
+        Binding("n", "rename_item", "Name", priority=True),
     ]
 
     SHEET_ACTIONS = frozenset({"save", "undo", "redo", "choose_model", "cycle_units", "reload", "diff", "chart",
@@ -178,7 +167,9 @@ class MainScreen(KeysFirst, Screen[None]):
         if action in ("move", "edit_field"):
             table = self.focused
             return isinstance(table, FieldList) if action == "edit_field" else isinstance(table, RowTable)
-        if action in ("pane", "sheet_settings"):
+        if action == "remove_item" and isinstance(self.focused, FieldList):
+            return False  # there x clears the field (FieldList's key)
+        if action in ("pane", "sheet_settings", "add_item", "remove_item", "rename_item"):
             return not (self.is_mounted and self.query_one(DetailPane).editing)
         if action == "cancel_edit":
             return self.is_mounted and self.query_one(DetailPane).editing
@@ -350,7 +341,7 @@ class MainScreen(KeysFirst, Screen[None]):
             return ("unit", name) if name else self.selection
         return self.selection
 
-    def action_add_item(self) -> None:
+    async def action_add_item(self) -> None:
         kind = {"streams": "stream", "units": "unit"}.get(self.active)
         if kind is None:
             self.app.ask_add(self._target())
@@ -358,20 +349,23 @@ class MainScreen(KeysFirst, Screen[None]):
             self.app.add_stream(self._target())
         else:
             self.app.add_unit(self._target())
+        await caught_up(self.app.screen)  # the dialog has the focus before the next key
 
-    def action_remove_item(self) -> None:
+    async def action_remove_item(self) -> None:
         kind, name = self._target()
         if kind == "sheet" or name is None:
             self.app.say("select a stream or a unit to remove")
             return
         self.app.remove_item(kind, name)
+        await caught_up(self.app.screen)
 
-    def action_rename_item(self) -> None:
+    async def action_rename_item(self) -> None:
         kind, name = self._target()
         if kind == "sheet" or name is None:
             self.app.say("select a stream or a unit to rename")
             return
         self.app.rename_item(kind, name)
+        await caught_up(self.app.screen)
 
     def follow_rename(self, kind: str, old: str, new: str) -> None:
         if self.selection == (kind, old):

@@ -57,9 +57,9 @@ class StartScreen(Screen[None]):
 
     def on_mount(self) -> None:
         if self.recent:
-            self.query_one("#recent", OptionList).focus()
+            self.set_focus(self.query_one("#recent", OptionList))
         else:
-            self.query_one("#new-name", Input).focus()
+            self.set_focus(self.query_one("#new-name", Input))
 
     def say(self, message: str) -> None:
         self.query_one("#start-message", Static).update(Text(message, style="bold"))
@@ -82,7 +82,7 @@ class StartScreen(Screen[None]):
         self.post_message(self.OpenWanted(self.recent[int(event.option.id)]))
 
     def action_focus_new(self) -> None:
-        self.query_one("#new-name", Input).focus()
+        self.set_focus(self.query_one("#new-name", Input))
 
     def action_focus_open(self) -> None:
-        self.query_one("#open-path", Input).focus()
+        self.set_focus(self.query_one("#open-path", Input))

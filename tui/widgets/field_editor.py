@@ -3,6 +3,8 @@ and, beside it, why the last entry was refused."""
 
 from __future__ import annotations
 
+import asyncio
+
 from textual import events
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -26,6 +28,18 @@ KIND_HINTS = {
     "model": "peng-robinson, soave-redlich-kwong, virial or ideal-gas",
     "text": "free text",
 }
+
+
+async def caught_up(widget, timeout: float = 0.5) -> None:
+    """Wait until ``widget`` has handled the messages (keys) already sent to
+    it: a key bound first (priority) that reads a box calls this, so that the
+    characters typed before it are in the box."""
+    done = asyncio.Event()
+    widget.call_later(done.set)
+    try:
+        await asyncio.wait_for(done.wait(), timeout)
+    except asyncio.TimeoutError:
+        pass
 
 
 def _editing_keys() -> dict[str, str]:
