@@ -175,3 +175,18 @@ def test_a_burst_in_the_rename_prompt(sheet_path, environ):
             assert "pressure-cutter" in app.document["units"]
 
     run(scenario())
+
+
+def test_a_click_on_a_row_opens_it(sheet_path, environ):
+    async def scenario():
+        app = _app(sheet_path, environ)
+        async with app.run_test(size=(120, 40)) as pilot:
+            await settle(app, pilot)
+            table = app.main_screen.query_one(UnitTable)
+            row = table.keys.index("booster")
+            await pilot.click(UnitTable, offset=(3, table.header_height + row))
+            await pilot.pause()
+            assert app.main_screen.selection == ("unit", "booster")
+            assert app.main_screen.active == "detail" and isinstance(app.focused, FieldList)
+
+    run(scenario())
