@@ -160,6 +160,7 @@ async def _edits(sheet: str) -> dict | str:
                         drawn.append(await _frame_after_solve(app) - started)
                     else:
                         back_to_back.append(ended - started)
+            await app.workers.wait_for_complete()  # the recovery file is written by a thread
             return {"filled": filled, "drawn": drawn, "back_to_back": back_to_back}
 
 
