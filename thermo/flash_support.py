@@ -3,8 +3,9 @@ describe a state in it, the notes they attach, and Wilson's K-values."""
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
-from scipy.linalg.lapack import dgesv
 
 NEAR_CRITICAL = "near-critical"
 LIQUID_LIQUID = "liquid-liquid"
@@ -90,12 +91,20 @@ def near_critical_split(ln_k: np.ndarray) -> bool:
     return float(np.max(np.abs(ln_k))) < LN_K_NEAR
 
 
+@functools.cache
+def _lapack_dgesv():
+    # Imported on first use: scipy.linalg costs about 150 ms to import, which
+    # the app would otherwise pay at start for sheets that never split.
+    from scipy.linalg.lapack import dgesv
+
+    return dgesv
+
 
 def solve(matrix: np.ndarray, rhs: np.ndarray) -> np.ndarray:
     """x with matrix @ x = rhs for the small dense systems of the flash,
     through LAPACK's dgesv directly (numpy's solve costs several times more
     per call at these sizes); raises numpy.linalg.LinAlgError if singular."""
-    _, _, x, info = dgesv(matrix, rhs)
+    _, _, x, info = _lapack_dgesv()(matrix, rhs)
     if info != 0:
         raise np.linalg.LinAlgError(f"singular matrix (LAPACK dgesv info {info})")
     return x
