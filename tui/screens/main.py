@@ -307,7 +307,7 @@ class MainScreen(KeysFirst, Screen[None]):
             if field.key_path and field.key_path[-1] == "type":
                 self.app.say("a unit's type cannot be changed in place: add a new unit and remove this one")
             elif field.key_path and field.key_path[0] == "streams":
-                self.app.say(f"{field.key_path[1]} is made by a unit: change that unit's specification")
+                self._edit_through_unit(field)
             else:
                 self.app.say(f"{field.label} is {what}")
             return
@@ -317,6 +317,23 @@ class MainScreen(KeysFirst, Screen[None]):
         from tui.widgets.fields import key_path_text
 
         detail.editor.start(field.key_path, key_path_text(field.key_path), field.kind, field.entered or "")
+
+    def _edit_through_unit(self, field) -> None:
+        """A stream made by a unit is set through that unit: its outlet
+        temperature or pressure, typed here, goes to the unit's key."""
+        from tui.widgets.fields import key_path_text, setting_unit_key, unit_key_kind
+
+        stream, key = field.key_path[1], field.key_path[-1]
+        unit_key = setting_unit_key(self.app.document, stream, key)
+        if unit_key is None:
+            self.app.say(f"{stream}'s {key} follows from the unit that makes it: "
+                         f"change that unit's specification")
+            return
+        written = self.app.document["units"][unit_key[1]].get(unit_key[2])
+        entered = "" if written is None else str(written)
+        self.app.say(f"{stream} is made by {unit_key[1]}: this sets {key_path_text(unit_key)}")
+        kind = unit_key_kind(unit_key[2])
+        self.query_one(DetailPane).editor.start(unit_key, key_path_text(unit_key), kind, entered)
 
     def on_field_editor_submitted(self, message: FieldEditor.Submitted) -> None:
         if self.query_one(DetailPane).editing:

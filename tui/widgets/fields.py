@@ -227,7 +227,8 @@ def stream_fields(document: Mapping, name: str, stream_result, system: str) -> l
     return rows
 
 
-def _unit_kind(key: str) -> str:
+def unit_key_kind(key: str) -> str:
+    """How a unit key's value is typed: "name", "names" or a quantity kind."""
     if key in LIST_ROLES:
         return "names"
     if key in CONNECTION_ROLES:
@@ -244,15 +245,15 @@ def unit_fields(document: Mapping, name: str, unit_result, system: str) -> list[
     type_name = table.get("type")
     unit_type = UNIT_TYPES.get(type_name) if isinstance(type_name, str) else None
     rows = [Field(("units", name, "type"), "type", "fixed", shown(type_name) if type_name else None,
-                  editable=False, note="remove and add to change")]
+                  editable=False, note="fixed")]
     if unit_type is None:
         for key, value in table.items():
             if key != "type":
-                rows.append(Field(("units", name, key), key, _unit_kind(key), shown(value)))
+                rows.append(Field(("units", name, key), key, unit_key_kind(key), shown(value)))
     else:
         for role in unit_type.connections:
             value = table.get(role)
-            rows.append(Field(("units", name, role), role, _unit_kind(role), None if value is None else shown(value)))
+            rows.append(Field(("units", name, role), role, unit_key_kind(role), None if value is None else shown(value)))
         for group in unit_type.groups:
             written = [k for k in group.keys if k in table]
             for key in group.keys:
@@ -263,14 +264,14 @@ def unit_fields(document: Mapping, name: str, unit_result, system: str) -> list[
                         note = "or"
                     elif group.default and group.default[0] == key:
                         note = f"default {group.default[1]:g}"
-                rows.append(Field(("units", name, key), key, _unit_kind(key),
+                rows.append(Field(("units", name, key), key, unit_key_kind(key),
                                   None if value is None else shown(value),
-                                  _converted(value, _unit_kind(key), document, system), note=note))
+                                  _converted(value, unit_key_kind(key), document, system), note=note))
         for key in unit_type.optional:
             value = table.get(key)
-            rows.append(Field(("units", name, key), key, _unit_kind(key),
+            rows.append(Field(("units", name, key), key, unit_key_kind(key),
                               None if value is None else shown(value),
-                              _converted(value, _unit_kind(key), document, system),
+                              _converted(value, unit_key_kind(key), document, system),
                               note="" if value is not None else "optional"))
         for key, value in table.items():
             if key not in unit_type.allowed_keys:
@@ -287,6 +288,30 @@ def unit_fields(document: Mapping, name: str, unit_result, system: str) -> list[
         rows.append(Field((), "balance residual", "computed", None,
                           _q(unit_result.energy_balance_residual_W, "power", system), editable=False))
     return rows
+
+
+def setting_unit_key(document: Mapping, stream: str, key: str) -> tuple | None:
+    """The unit key that sets ``key`` (temperature, pressure, vapor_fraction)
+    of a stream made by a unit: ``("units", "line-heater",
+    "outlet_temperature")`` for the heater's outlet; None when the unit that
+    makes the stream has no such key (a valve's outlet temperature follows
+    from its balance)."""
+    units = document.get("units") if isinstance(document.get("units"), Mapping) else {}
+    for unit_name, table in (units.items() if isinstance(units, Mapping) else ()):
+        if not isinstance(table, Mapping):
+            continue
+        unit_type = UNIT_TYPES.get(table.get("type"))
+        if unit_type is None:
+            continue
+        for role in unit_type.connections:
+            made_here = table.get(role) == stream if role not in LIST_ROLES else False
+            if role.endswith("outlet") and made_here:
+                prefix = role[: -len("outlet")]
+                candidate = f"{prefix}outlet_{key}"
+                if candidate in unit_type.allowed_keys:
+                    return ("units", unit_name, candidate)
+                return None
+    return None
 
 
 def group_rivals(document: Mapping, key_path: tuple) -> list[tuple]:
