@@ -25,7 +25,8 @@ KEYS = (
     ("Editing", (
         ("e  or  enter", "edit the field under the cursor: type the value with its unit (45 barg, 120 degF); "
                          "the text written before starts selected, so typing replaces it (\u2190 \u2192 to change it "
-                         "instead); enter accepts, escape cancels"),
+                         "instead); enter accepts, escape cancels. On a stream made by a unit, the temperature "
+                         "or pressure typed goes to that unit's outlet key (a heater's outlet_temperature)"),
         ("x  or  delete", "in the detail pane: clear that field; elsewhere: remove the stream or unit"),
         ("a", "add a stream or a unit"),
         ("n", "rename the selected stream or unit (every reference follows)"),
