@@ -179,7 +179,3 @@ class FittedTable(RowTable):
         else:
             text.pad_right(width - text.cell_len)
         return text
-
-    def move_to_key(self, key: str) -> None:
-        if key in self.keys and self.cursor_row != self.keys.index(key):
-            self.move_cursor(row=self.keys.index(key))

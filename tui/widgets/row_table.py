@@ -29,6 +29,19 @@ from textual.strip import Strip
 CURSOR_MARK = "\u25b8"
 
 
+class _RowMessage(Message):
+    """A message about the row ``key`` of ``table``."""
+
+    def __init__(self, table: "RowTable", key: str) -> None:
+        self.table = table
+        self.key = key
+        super().__init__()
+
+    @property
+    def control(self) -> "RowTable":
+        return self.table
+
+
 class RowTable(ScrollView, can_focus=True):
     """Rows under a header of ``header_height`` lines. ``set_rows`` gives the
     header lines and the rows as ``(key, [cell Text, ...])``."""
@@ -75,29 +88,11 @@ class RowTable(ScrollView, can_focus=True):
         Binding("enter", "select_cursor", "Choose", show=False),
     ]
 
-    class Highlighted(Message):
+    class Highlighted(_RowMessage):
         """The cursor moved onto the row ``key``."""
 
-        def __init__(self, table: "RowTable", key: str) -> None:
-            self.table = table
-            self.key = key
-            super().__init__()
-
-        @property
-        def control(self) -> "RowTable":
-            return self.table
-
-    class Selected(Message):
+    class Selected(_RowMessage):
         """The row ``key`` was chosen (enter or a click)."""
-
-        def __init__(self, table: "RowTable", key: str) -> None:
-            self.table = table
-            self.key = key
-            super().__init__()
-
-        @property
-        def control(self) -> "RowTable":
-            return self.table
 
     def __init__(self, *, header_height: int = 1, **options) -> None:
         super().__init__(**options)
@@ -170,6 +165,11 @@ class RowTable(ScrollView, can_focus=True):
         self.refresh()
         if moved and announce:
             self.post_message(self.Highlighted(self, self._keys[row]))
+
+    def move_to_key(self, key: str) -> None:
+        """Put the cursor on the row ``key``, if there is one."""
+        if key in self.keys and self.cursor_row != self.keys.index(key):
+            self.move_cursor(row=self.keys.index(key))
 
     def _visible_rows(self) -> int:
         return max(1, self.scrollable_content_region.height - self.header_height)
@@ -267,3 +267,38 @@ class RowTable(ScrollView, can_focus=True):
         cursor_style = self.get_component_rich_style("row-table--cursor") if cursor else None
         strip = self._strip((key, cursor), lambda: self._row_line(key, cursor), base, cursor_style)
         return strip.crop_extend(scroll_x, scroll_x + width, base + cursor_style if cursor_style else base)
+
+
+class NamedRows:
+    """Mixin for a RowTable whose keys are names (streams, units): posts
+    ``Picked(name)`` when the cursor lands on a row and ``Opened(name)`` when
+    one is chosen (enter, a click).
+
+    Each table declares its own subclasses of the two messages, so that a
+    screen's handler says which table spoke (``on_stream_table_picked``):
+    Textual names a handler after the class the message is defined in."""
+
+    class Picked(Message):
+        def __init__(self, name: str) -> None:
+            self.name = name
+            super().__init__()
+
+    class Opened(Message):
+        def __init__(self, name: str) -> None:
+            self.name = name
+            super().__init__()
+
+    @property
+    def current_name(self) -> str | None:
+        return self.current_key
+
+    def select_name(self, name: str) -> None:
+        self.move_to_key(name)
+
+    def on_row_table_highlighted(self, event: RowTable.Highlighted) -> None:
+        event.stop()
+        self.post_message(self.Picked(event.key))
+
+    def on_row_table_selected(self, event: RowTable.Selected) -> None:
+        event.stop()
+        self.post_message(self.Opened(event.key))

@@ -5,13 +5,12 @@ from __future__ import annotations
 from typing import Mapping
 
 from rich.text import Text
-from textual.message import Message
 
 from thermo.quantities import display_units, format_number
 
 from .cells import cell, entered_quantities, flag_variants, flags_by_place, number
 from .fitted_table import Column, FittedTable, header_unit
-from .row_table import RowTable
+from .row_table import NamedRows
 
 # The phase word spelled out, and shortened for a narrow terminal.
 PHASE_WORDS = {
@@ -51,19 +50,15 @@ def stream_columns(system: str) -> tuple[Column, ...]:
     )
 
 
-class StreamTable(FittedTable):
+class StreamTable(NamedRows, FittedTable):
     """Streams of the solved sheet. Posts ``Picked`` when the cursor lands on
     a stream and ``Opened`` when one is chosen with enter."""
 
-    class Picked(Message):
-        def __init__(self, name: str) -> None:
-            self.name = name
-            super().__init__()
+    class Picked(NamedRows.Picked):
+        """The cursor landed on the stream ``name``."""
 
-    class Opened(Message):
-        def __init__(self, name: str) -> None:
-            self.name = name
-            super().__init__()
+    class Opened(NamedRows.Opened):
+        """The stream ``name`` was chosen."""
 
     def show(self, result, document: Mapping, system: str) -> None:
         """Fill the table from ``result`` (a SheetResult or None) keeping the
@@ -86,18 +81,3 @@ class StreamTable(FittedTable):
                     flag_variants(places.get(name, [])),
                 ]))
         self.fill(stream_columns(system), rows)
-
-    @property
-    def current_name(self) -> str | None:
-        return self.current_key
-
-    def select_name(self, name: str) -> None:
-        self.move_to_key(name)
-
-    def on_row_table_highlighted(self, event: RowTable.Highlighted) -> None:
-        event.stop()
-        self.post_message(self.Picked(event.key))
-
-    def on_row_table_selected(self, event: RowTable.Selected) -> None:
-        event.stop()
-        self.post_message(self.Opened(event.key))

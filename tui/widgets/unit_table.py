@@ -5,13 +5,12 @@ from __future__ import annotations
 from typing import Mapping
 
 from rich.text import Text
-from textual.message import Message
 
 from thermo.quantities import display_units
 
 from .cells import cell, flag_variants, flags_by_place, number
 from .fitted_table import Column, FittedTable, header_unit
-from .row_table import RowTable
+from .row_table import NamedRows
 
 
 def unit_columns(system: str) -> tuple[Column, ...]:
@@ -26,19 +25,15 @@ def unit_columns(system: str) -> tuple[Column, ...]:
     )
 
 
-class UnitTable(FittedTable):
+class UnitTable(NamedRows, FittedTable):
     """Units of the solved sheet, in the file's order. Posts ``Picked`` and
     ``Opened`` like ``StreamTable``."""
 
-    class Picked(Message):
-        def __init__(self, name: str) -> None:
-            self.name = name
-            super().__init__()
+    class Picked(NamedRows.Picked):
+        """The cursor landed on the unit ``name``."""
 
-    class Opened(Message):
-        def __init__(self, name: str) -> None:
-            self.name = name
-            super().__init__()
+    class Opened(NamedRows.Opened):
+        """The unit ``name`` was chosen."""
 
     def show(self, result, document: Mapping, system: str) -> None:
         """Fill from ``result``; units the file holds but the solve did not
@@ -66,18 +61,3 @@ class UnitTable(FittedTable):
                 flag_variants(places.get(name, [])),
             ]))
         self.fill(unit_columns(system), rows)
-
-    @property
-    def current_name(self) -> str | None:
-        return self.current_key
-
-    def select_name(self, name: str) -> None:
-        self.move_to_key(name)
-
-    def on_row_table_highlighted(self, event: RowTable.Highlighted) -> None:
-        event.stop()
-        self.post_message(self.Picked(event.key))
-
-    def on_row_table_selected(self, event: RowTable.Selected) -> None:
-        event.stop()
-        self.post_message(self.Opened(event.key))
