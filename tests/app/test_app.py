@@ -401,13 +401,27 @@ def test_start_screen_new_sheet_from_template_and_recent(tmp_path, sheet_path, e
             assert isinstance(app.screen, StartScreen)
             listing = app.screen.query_one("#recent", OptionList)
             assert listing.get_option_at_index(0).prompt == str(new_path.resolve())
+            await pilot.press("down", "down")  # from the name box, past the path box, to the list
+            assert listing.has_focus
             await pilot.press("enter")
             await settle(app, pilot)
             assert app.session.path == new_path.resolve()
 
+    async def name_typed_at_once():
+        # With a recent sheet listed, a name typed straight away still goes
+        # to the new sheet's box, and enter makes that sheet.
+        app = _app(None, environ)
+        async with app.run_test(size=SIZE) as pilot:
+            await pilot.pause()
+            await pilot.press(*str(tmp_path / "second"), "enter")
+            await settle(app, pilot)
+            assert isinstance(app.screen, MainScreen) and app.session.path == tmp_path / "second.toml"
+
     run(new_sheet())
     assert new_path.exists()
     run(recent())
+    run(name_typed_at_once())
+    assert (tmp_path / "second.toml").exists()
 
 
 def test_opening_a_broken_sheet_lists_its_problems(sheet_path, environ):

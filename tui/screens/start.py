@@ -11,12 +11,19 @@ from textual.binding import Binding
 from textual.containers import Vertical
 from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import Footer, Input, OptionList, Static
+from textual import events
+from textual.widgets import Input, OptionList, Static
 from textual.widgets.option_list import Option
 
+from tui.screens.key_order import KeysFirst
+from tui.widgets.key_footer import KeyFooter
 
-class StartScreen(Screen[None]):
-    """Posts ``NewWanted(path)`` or ``OpenWanted(path)`` for the app."""
+
+class StartScreen(KeysFirst, Screen[None]):
+    """Posts ``NewWanted(path)`` or ``OpenWanted(path)`` for the app. The
+    new sheet's name box has the focus first, as its heading says "type a
+    file name": a name typed at once must not fall on the recent list (where
+    enter would open a recent sheet instead). Down leaves a box for the next."""
 
     BINDINGS = [
         Binding("ctrl+n", "focus_new", "New sheet"),
@@ -53,13 +60,15 @@ class StartScreen(Screen[None]):
             else:
                 yield Static("(no recent sheets yet)", classes="start-note")
             yield Static(self.message, id="start-message")
-        yield Footer()
+        yield KeyFooter()
 
     def on_mount(self) -> None:
-        if self.recent:
-            self.set_focus(self.query_one("#recent", OptionList))
-        else:
-            self.set_focus(self.query_one("#new-name", Input))
+        self.set_focus(self.query_one("#new-name", Input))
+
+    def on_key(self, event: events.Key) -> None:
+        if event.key == "down" and isinstance(self.focused, Input):
+            event.stop()
+            self.focus_next()
 
     def say(self, message: str) -> None:
         self.query_one("#start-message", Static).update(Text(message, style="bold"))
