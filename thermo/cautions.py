@@ -103,9 +103,13 @@ RULES: dict[str, Rule] = _rules(
          "a temperature outside the range of a component's ideal-gas Cp polynomial",
          "the polynomial's stated temperature range in the component data"),
     Rule("virial-out-of-range", CAUTION, "warning",
-         "the truncated virial equation used at a reduced volume V/Vc below its limit",
-         "thermo.models.virial.MIN_REDUCED_VOLUME (Smith, Van Ness and Abbott's guide for the "
-         "generalized second-virial correlation)"),
+         "the truncated virial equation used where the third-virial term it leaves out would change Z "
+         "by more than 2 %, or beyond half the critical density",
+         "Smith, Van Ness and Abbott, Introduction to Chemical Engineering Thermodynamics, 8th ed., Sec. 3.7: "
+         "the generalized virial correlation serves where Z is about linear in pressure (within 2 % of "
+         "Lee/Kesler), a range that shrinks as the reduced temperature falls; the left-out term from Orbey "
+         "and Vera's third virial coefficient, AIChE J. 29 (1983) 107 (thermo.models.virial.MAX_TRUNCATION); "
+         "V/Vc of at least 2 as a backstop (common practice, no published source)"),
     Rule("negative-entropy-generation", VIOLATION, None,
          "a unit that would destroy entropy (beyond a few 1e-9 of its entropy flows)",
          "the second law of thermodynamics"),
@@ -240,18 +244,24 @@ def _cp_range(state, where: str, mixture) -> list[Caution]:
 
 
 def _virial_range(state, where: str, model) -> list[Caution]:
-    from .models.virial import MIN_REDUCED_VOLUME, VirialModel
+    from .models.virial import MAX_TRUNCATION, MIN_REDUCED_VOLUME, VirialModel
 
     if not isinstance(model, VirialModel):
         return []
-    reduced = model.reduced_volume(state.temperature, state.pressure, state.composition)
-    if reduced >= MIN_REDUCED_VOLUME:
+    t, p, x = state.temperature, state.pressure, state.composition
+    left_out = model.truncation_error(t, p, x)
+    reduced = model.reduced_volume(t, p, x)
+    if left_out <= MAX_TRUNCATION and reduced >= MIN_REDUCED_VOLUME:
         return []
+    # infinite where the truncated Z is not positive: no gas state at all there
+    shown = "more than 1000 %" if left_out > 10.0 else f"about {left_out:.1%}"
     return [_caution(
         "virial-out-of-range",
-        f"The truncated virial equation is used at a reduced volume V/Vc of {reduced:.2f}, below its limit of "
-        f"{MIN_REDUCED_VOLUME:g} ({_temperature(state.temperature)}, {_pressure(state.pressure)}): the gas is too "
-        "dense for it. Use a cubic model (peng-robinson or soave-redlich-kwong) for this sheet.",
+        f"The truncated virial equation is used outside its range at {_temperature(t)}, {_pressure(p)}: the "
+        f"third-virial term it leaves out would change Z by {shown} (its limit is {MAX_TRUNCATION:.0%}), "
+        f"and the reduced volume V/Vc is {reduced:.2f} (its limit is at least {MIN_REDUCED_VOLUME:g}). "
+        "The gas is too dense, or too cold for its pressure, for Z = 1 + BP/RT; its enthalpy and entropy "
+        "departures are off too. Use a cubic model (peng-robinson or soave-redlich-kwong) for this sheet.",
         where)]
 
 
