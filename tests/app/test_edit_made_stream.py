@@ -5,14 +5,11 @@ from __future__ import annotations
 
 from textual.widgets import Input
 
-from .conftest import run, settle
-from tui.app import StatepathApp
+from .conftest import settle
 from tui.widgets.detail_pane import DetailPane, FieldList
 from tui.widgets.fields import setting_unit_key
 from tui.widgets.status_line import StatusLine
 from tui.widgets.stream_table import StreamTable
-
-SIZE = (120, 40)
 
 
 def _document():
@@ -50,32 +47,26 @@ async def _edit_stream_field(app, pilot, stream: str, key: str) -> None:
     await pilot.press("e")
 
 
-def test_typing_the_outlet_temperature_of_a_heated_stream_sets_the_heater(sheet_path, environ):
-    async def scenario():
-        app = StatepathApp(str(sheet_path), environ=environ)
-        async with app.run_test(size=SIZE) as pilot:
-            await settle(app, pilot)
-            await _edit_stream_field(app, pilot, "warm-gas", "temperature")
-            box = app.main_screen.query_one("#editor-input", Input)
-            assert box.has_focus and box.value == "25 degC"
-            assert "made by line-heater" in str(app.main_screen.query_one(StatusLine).render())
-            box.value = "30 degC"
-            await pilot.press("enter")
-            await settle(app, pilot)
-            assert not app.main_screen.query_one(DetailPane).editing
-            assert app.document["units"]["line-heater"]["outlet_temperature"] == "30 degC"
-            assert abs(app.result.streams["warm-gas"].state.temperature - 303.15) < 1e-6
+def test_typing_the_outlet_temperature_of_a_heated_stream_sets_the_heater(run_solved):
+    async def scenario(app, pilot):
+        await _edit_stream_field(app, pilot, "warm-gas", "temperature")
+        box = app.main_screen.query_one("#editor-input", Input)
+        assert box.has_focus and box.value == "25 degC"
+        assert "made by line-heater" in str(app.main_screen.query_one(StatusLine).render())
+        box.value = "30 degC"
+        await pilot.press("enter")
+        await settle(app, pilot)
+        assert not app.main_screen.query_one(DetailPane).editing
+        assert app.document["units"]["line-heater"]["outlet_temperature"] == "30 degC"
+        assert abs(app.result.streams["warm-gas"].state.temperature - 303.15) < 1e-6
 
-    run(scenario())
+    run_solved(scenario)
 
 
-def test_a_valve_outlet_temperature_is_refused_with_the_reason(sheet_path, environ):
-    async def scenario():
-        app = StatepathApp(str(sheet_path), environ=environ)
-        async with app.run_test(size=SIZE) as pilot:
-            await settle(app, pilot)
-            await _edit_stream_field(app, pilot, "lp-gas", "temperature")
-            assert not app.main_screen.query_one(DetailPane).editing
-            assert "follows from the unit" in str(app.main_screen.query_one(StatusLine).render())
+def test_a_valve_outlet_temperature_is_refused_with_the_reason(run_solved):
+    async def scenario(app, pilot):
+        await _edit_stream_field(app, pilot, "lp-gas", "temperature")
+        assert not app.main_screen.query_one(DetailPane).editing
+        assert "follows from the unit" in str(app.main_screen.query_one(StatusLine).render())
 
-    run(scenario())
+    run_solved(scenario)
