@@ -189,11 +189,13 @@ class UserComponent:
 
 
 @dataclass(frozen=True)
-class FeedStream:
-    """A stream that enters the flowsheet, SI. Exactly two of temperature_K,
-    pressure_Pa (absolute) and vapor_fraction are set, and exactly one of
-    molar_flow_mol_s and mass_flow_kg_s. ``composition`` maps canonical
-    component names to mole fractions (as written; they sum to 1 within 1e-6)."""
+class _StatedStream:
+    """A ``[streams.NAME]`` table whose state the file gives, SI: exactly two
+    of temperature_K, pressure_Pa (absolute) and vapor_fraction are set, and
+    exactly one of molar_flow_mol_s and mass_flow_kg_s. ``composition`` maps
+    canonical component names to mole fractions (as written; they sum to 1
+    within 1e-6). Shared by ``FeedStream`` and ``LoopEstimate``, which differ
+    only in what the solver does with them."""
 
     name: str
     temperature_K: float | None
@@ -210,7 +212,14 @@ class FeedStream:
 
 
 @dataclass(frozen=True)
-class LoopEstimate:
+class FeedStream(_StatedStream):
+    """A stream that enters the flowsheet; fields in SI as on ``_StatedStream``
+    (two of temperature_K, pressure_Pa and vapor_fraction, one of
+    molar_flow_mol_s and mass_flow_kg_s, mole fractions summing to 1)."""
+
+
+@dataclass(frozen=True)
+class LoopEstimate(_StatedStream):
     """A ``[streams.NAME]`` table with ``loop_estimate = true``: a stream that a
     unit inside a recycle loop writes, given a starting state. Fields and units
     as ``FeedStream`` (SI; two of temperature_K, pressure_Pa and vapor_fraction,
@@ -221,19 +230,6 @@ class LoopEstimate:
     are the loop's circulating charge and stay as written; its temperature,
     pressure and enthalpy come from the units. On a loop that is also fed from
     outside it is only a starting estimate, and its flow is iterated too."""
-
-    name: str
-    temperature_K: float | None
-    pressure_Pa: float | None
-    vapor_fraction: float | None
-    molar_flow_mol_s: float | None
-    mass_flow_kg_s: float | None
-    composition: Mapping[str, float]
-
-    @property
-    def components(self) -> tuple[str, ...]:
-        """Component names in file order."""
-        return tuple(self.composition)
 
 
 @dataclass(frozen=True)
