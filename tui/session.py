@@ -312,19 +312,18 @@ class Session:
 
     def undo(self) -> str | None:
         """Step back; returns the label of what was undone, None if nothing."""
-        if not self._undo:
-            return None
-        step = self._undo.pop()
-        self._redo.append(Step(step.label, self.text))
-        self._set(step.text)
-        return step.label
+        return self._step(self._undo, self._redo)
 
     def redo(self) -> str | None:
         """Step forward again; returns the label of what was redone."""
-        if not self._redo:
+        return self._step(self._redo, self._undo)
+
+    def _step(self, taken_from: list, kept_in: list) -> str | None:
+        """Go to the last text of ``taken_from``; the present one goes to ``kept_in``."""
+        if not taken_from:
             return None
-        step = self._redo.pop()
-        self._undo.append(Step(step.label, self.text))
+        step = taken_from.pop()
+        kept_in.append(Step(step.label, self.text))
         self._set(step.text)
         return step.label
 
