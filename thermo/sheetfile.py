@@ -1459,6 +1459,18 @@ def _copy(doc: TOMLDocument) -> TOMLDocument:
     return tomlkit.parse(doc.as_string())
 
 
+def _checked(result: TOMLDocument, what: str) -> TOMLDocument:
+    """``result`` (a copy that tomlkit changed in place) if its text is valid
+    TOML, else SheetEditError. Only tomllib reads it again here: a second
+    tomlkit parse would cost as much as the copy, and whoever accepts the edit
+    reads the text with both anyway (``parse_sheet_text``, as the app does)."""
+    try:
+        tomllib.loads(result.as_string())
+    except Exception as error:  # any failure means the edit would break the file
+        raise SheetEditError(f"cannot {what}: the result would not be valid TOML ({error})") from None
+    return result
+
+
 def _check_new_name(name: str, what: str) -> None:
     if not isinstance(name, str) or not NAME_PATTERN.match(name):
         raise SheetEditError(
@@ -1578,9 +1590,7 @@ def set_value(doc: TOMLDocument, key_path: tuple[str, ...], value: Any) -> TOMLD
         raise SheetEditError("cannot set a value without a key")
     what = f"set {format_key_path(key_path)}"
     _to_item(value)  # refuses what cannot be written, before anything else
-    result = _copy(doc)
-    plain = result.unwrap()
-    node: Any = plain
+    node: Any = doc.unwrap()  # read only: ``doc`` itself is never changed
     for depth, key in enumerate(key_path[:-1]):
         if isinstance(node, dict) and key in node:
             node = node[key]
@@ -1592,14 +1602,16 @@ def set_value(doc: TOMLDocument, key_path: tuple[str, ...], value: Any) -> TOMLD
     if isinstance(node, dict) and key_path[-1] in node:
         current = node[key_path[-1]]
         if type(current) is type(value) and current == value:
-            return result
+            return _copy(doc)
         if isinstance(current, dict) and not isinstance(value, Mapping):
             raise SheetEditError(f"cannot {what}: it is a table; set its keys one by one")
+        result = _copy(doc)
         container = _walk(result, key_path, create=False, what=what)
         container[key_path[-1]] = _to_item(value)
-        return _reparse(result.as_string(), what)
-    text = _add_key_text(result.as_string(), key_path, value, what)
+        return _checked(result, what)
+    text = _add_key_text(doc.as_string(), key_path, value, what)
     if text is None:
+        result = _copy(doc)
         container = _walk(result, key_path, create=True, what=what)
         container[key_path[-1]] = _to_item(value)
         text = result.as_string()
@@ -1622,7 +1634,7 @@ def remove_value(doc: TOMLDocument, key_path: tuple[str, ...]) -> TOMLDocument:
     if key_path[-1] not in container:
         raise SheetEditError(f"cannot {what}: it does not exist")
     del container[key_path[-1]]
-    return _reparse(result.as_string(), what)
+    return _checked(result, what)
 
 
 def _streams_in_use(plain: dict) -> set[str]:
