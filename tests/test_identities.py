@@ -35,8 +35,10 @@ fluid_indices = st.integers(min_value=0, max_value=len(FLUIDS) - 1)
 
 
 def virial_serves(model, t, p, x) -> bool:
-    """Whether the truncated virial equation is inside its own range here
-    (reduced volume of at least 2, the model's guide)."""
+    """Whether the truncated virial equation gives a sensible state here
+    (reduced volume of at least 2). The identities hold wherever the model
+    has a volume; the range caution of thermo.cautions, which also bounds the
+    left-out third-virial term, is stricter and is tested on its own."""
     return model.reduced_volume(t, p, x) >= 2.0
 
 
