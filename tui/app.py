@@ -614,8 +614,9 @@ class StatepathApp(App[int]):
 
         question = (f"{self.session.name} changed on disk since it was read (another editor, git?). "
                     "Nothing was written.")
-        answers = [("diff", "Diff: what differs"), ("overwrite", "Overwrite the file"),
-                   ("reload", "Reload from disk (edits stay one undo away)"), ("cancel", "Cancel")]
+        detail = ("Diff: see what differs. Overwrite: write the sheet over the changed file. "
+                  "Reload: read the file again (the edits stay one undo away).")
+        answers = [("diff", "Diff"), ("overwrite", "Overwrite"), ("reload", "Reload"), ("cancel", "Cancel")]
 
         def answered(answer: str | None) -> None:
             if answer == "diff":
@@ -636,7 +637,7 @@ class StatepathApp(App[int]):
             else:
                 self.say("not saved: the file on disk changed; save again to choose")
 
-        self.push_screen(ChoiceScreen(question, answers), answered)
+        self.push_screen(ChoiceScreen(question, answers, detail=detail), answered)
 
     def action_undo(self) -> None:
         if self.session is None:
