@@ -34,6 +34,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Sequence
 
+import numpy as np
+
 from .equipment.common import Flow, UnitOutcome
 from .properties import pseudo_critical
 from .results import Caution, Violation
@@ -104,12 +106,14 @@ RULES: dict[str, Rule] = _rules(
          "the polynomial's stated temperature range in the component data"),
     Rule("virial-out-of-range", CAUTION, "warning",
          "the truncated virial equation used where the third-virial term it leaves out would change Z "
-         "by more than 2 %, or beyond half the critical density",
+         "by more than 2 %, beyond half the critical density, or on a stream that would condense",
          "Smith, Van Ness and Abbott, Introduction to Chemical Engineering Thermodynamics, 8th ed., Sec. 3.7: "
          "the generalized virial correlation serves where Z is about linear in pressure (within 2 % of "
          "Lee/Kesler), a range that shrinks as the reduced temperature falls; the left-out term from Orbey "
          "and Vera's third virial coefficient, AIChE J. 29 (1983) 107 (thermo.models.virial.MAX_TRUNCATION); "
-         "V/Vc of at least 2 as a backstop (common practice, no published source)"),
+         "V/Vc of at least 2 as a backstop (common practice, no published source); condensation by "
+         "Wilson's K-values (Wilson, 1968, as given by Michelsen and Mollerup, 2007, ch. 9), asked only when "
+         "every component is below its critical temperature"),
     Rule("negative-entropy-generation", VIOLATION, None,
          "a unit that would destroy entropy (beyond a few 1e-9 of its entropy flows)",
          "the second law of thermodynamics"),
@@ -251,18 +255,42 @@ def _virial_range(state, where: str, model) -> list[Caution]:
     t, p, x = state.temperature, state.pressure, state.composition
     left_out = model.truncation_error(t, p, x)
     reduced = model.reduced_volume(t, p, x)
-    if left_out <= MAX_TRUNCATION and reduced >= MIN_REDUCED_VOLUME:
+    condensing = _wilson_condensing(model.mixture, t, p, x)
+    if left_out <= MAX_TRUNCATION and reduced >= MIN_REDUCED_VOLUME and not condensing:
         return []
     # infinite where the truncated Z is not positive: no gas state at all there
     shown = "more than 1000 %" if left_out > 10.0 else f"about {left_out:.1%}"
+    reasons = []
+    if left_out > MAX_TRUNCATION or reduced < MIN_REDUCED_VOLUME:
+        reasons.append(
+            f"the third-virial term it leaves out would change Z by {shown} (its limit is {MAX_TRUNCATION:.0%}), "
+            f"and the reduced volume V/Vc is {reduced:.2f} (its limit is at least {MIN_REDUCED_VOLUME:g}): the "
+            "gas is too dense, or too cold for its pressure, for Z = 1 + BP/RT, and its enthalpy and entropy "
+            "departures are off too")
+    if condensing:
+        reasons.append("by Wilson's K-value estimate the stream is below its dew point, partly or wholly liquid, "
+                       "which a gas-only model cannot show (it reports a gas)")
     return [_caution(
         "virial-out-of-range",
-        f"The truncated virial equation is used outside its range at {_temperature(t)}, {_pressure(p)}: the "
-        f"third-virial term it leaves out would change Z by {shown} (its limit is {MAX_TRUNCATION:.0%}), "
-        f"and the reduced volume V/Vc is {reduced:.2f} (its limit is at least {MIN_REDUCED_VOLUME:g}). "
-        "The gas is too dense, or too cold for its pressure, for Z = 1 + BP/RT; its enthalpy and entropy "
-        "departures are off too. Use a cubic model (peng-robinson or soave-redlich-kwong) for this sheet.",
+        f"The truncated virial equation is used outside its range at {_temperature(t)}, {_pressure(p)}: "
+        f"{'; and '.join(reasons)}. Use a cubic model (peng-robinson or soave-redlich-kwong) for this sheet.",
         where)]
+
+
+def _wilson_condensing(mixture, temperature: float, pressure: float, x) -> bool:
+    """Whether Wilson's K-values put (T, P) below the dew point of ``x``:
+    sum x_i / K_i > 1. Asked only when every component present is below its
+    critical temperature: with a supercritical one (methane in natural gas)
+    Wilson's K-values, which fall without end as P rises, would report a dew
+    point above the cricondenbar."""
+    from .flash_support import wilson_k
+
+    present = np.asarray(x) > 0.0
+    tc = mixture.critical_temperature[present]
+    if np.any(tc <= temperature):
+        return False
+    k = wilson_k(tc, mixture.critical_pressure[present], mixture.acentric_factor[present], temperature, pressure)
+    return float(np.sum(np.asarray(x)[present] / k)) > 1.0
 
 
 # ------------------------------------------------------------------ units

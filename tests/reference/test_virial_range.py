@@ -86,3 +86,31 @@ def test_the_caution_follows_the_truncated_equation_s_error_in_z():
             if error > 0.03:
                 assert "virial-out-of-range" in codes, (tr, pr, error)
     assert raised > 10 and silent > 40  # the grid spans both sides of the range
+
+
+def _says_liquid(model, temperature: float, pressure: float, x) -> bool:
+    state = single_phase_state(model, temperature, pressure, x)
+    return any(c.code == "virial-out-of-range" and "below its dew point" in c.message
+               for c in stream_cautions(state, where="streams.s", model=model, limits=Limits()))
+
+
+@pytest.mark.parametrize("name, temperature", [("propane", 298.15), ("water", 378.15), ("n-butane", 300.0)])
+def test_a_state_that_is_liquid_by_the_reference_equation_is_cautioned(name, temperature):
+    """The gas-only virial model reports a gas even for a liquid (spray water
+    at 105 degC and 16 bar once showed only a density warning). Wilson's
+    K-value estimate of the vapor pressure is within some 10 % of the
+    reference equation's for these fluids below Tr 0.85, so the checks stay
+    30 % either side of CoolProp's saturation pressure."""
+    model = virial(make_mixture([name]))
+    psat = CP.PropsSI("P", "T", temperature, "Q", 0, LIBRARY_TO_COOLPROP[name])
+    assert _says_liquid(model, temperature, 1.3 * psat, np.array([1.0]))
+    assert not _says_liquid(model, temperature, 0.7 * psat, np.array([1.0]))
+
+
+def test_natural_gas_at_pipeline_pressure_is_not_called_liquid():
+    """With methane above its critical temperature, Wilson's K-values would
+    put a dew point above the gas's cricondenbar; the estimate is not asked.
+    GERG-2008 gives this gas one phase at 71 bar and 6 degC."""
+    names = list(GAS)
+    x = np.array([GAS[n] for n in names])
+    assert not _says_liquid(virial(make_mixture(names)), 279.15, 71e5, x)
