@@ -760,29 +760,45 @@ class StatepathApp(App[int]):
         return {name: (unit.inlet_streams, unit.outlet_streams) for name, unit in sheet.units.items()}
 
     def _dome_key(self):
+        from tui.envelope import envelope_feed
+
         sheet = self.session.loaded.sheet
-        return (sheet.model, repr(sheet.components), repr(sorted(sheet.interaction.items())),
-                tuple(self.result.component_names) if self.result else ())
+        key = (sheet.model, repr(sheet.components), repr(sorted(sheet.interaction.items())),
+               tuple(self.result.component_names) if self.result else ())
+        feed = envelope_feed(self.result, self._connections()) if self.result else None
+        if feed is None or int((feed[0] > 1e-12).sum()) < 2:
+            return key
+        # A mixture's envelope follows its feed and the pressures it is drawn over.
+        pressures = [s.state.pressure for s in self.result.streams.values()]
+        return key + (feed[1], tuple(float(v) for v in feed[0]), min(pressures), max(pressures))
 
     def chart_data_for(self, kind: str):
-        from tui.chart import chart_data
+        from tui.chart import chart_data, pure_component_index
 
         if self.result is None or not self.result.streams:
             return None
         cached = self._dome_cache.get(self._dome_key())
-        dome, note = cached if cached else (None, "saturation dome: computing\u2026" if self._dome_running else None)
-        return chart_data(self.result, kind, self.system, dome=dome, connections=self._connections(),
-                          notes=[note] if note else [])
+        if cached:
+            dome, envelope, note = cached
+        else:
+            dome = envelope = None
+            what = "saturation dome" if pure_component_index(self.result) is not None else "phase envelope"
+            note = f"{what}: computing\u2026" if self._dome_running else None
+        return chart_data(self.result, kind, self.system, dome=dome, envelope=envelope,
+                          connections=self._connections(), notes=[note] if note else [])
 
     def _ensure_dome(self) -> None:
         if self.result is None or self._dome_key() in self._dome_cache or self._dome_running:
             return
         self._dome_running = True
-        self._compute_dome(self._dome_key(), self.session.loaded.sheet, self.result)
+        self._compute_dome(self._dome_key(), self.session.loaded.sheet, self.result, self._connections())
 
     @work(thread=True, exclusive=True, group="dome", exit_on_error=False)
-    def _compute_dome(self, key, sheet, result) -> None:
-        from tui.chart import dome_for_result
+    def _compute_dome(self, key, sheet, result, connections) -> None:
+        """The dome of a pure fluid or the phase envelope of a mixture, off the
+        UI thread: the chart's first frame shows the streams without them."""
+        from tui.chart import dome_for_result, pure_component_index
+        from tui.envelope import envelope_for_result
 
         def builder():
             from thermo.flowsheet import build_mixture
@@ -790,10 +806,18 @@ class StatepathApp(App[int]):
 
             return make_model(sheet.model, build_mixture(sheet))
 
-        try:
-            outcome = dome_for_result(result, builder)
-        except Exception as error:  # noqa: BLE001 - the chart shows the note instead of the dome
-            outcome = (None, f"saturation dome skipped: {error}")
+        if pure_component_index(result) is not None:
+            try:
+                dome, note = dome_for_result(result, builder)
+            except Exception as error:  # noqa: BLE001 - the chart shows the note instead of the dome
+                dome, note = None, f"saturation dome skipped: {error}"
+            outcome = (dome, None, note)
+        else:
+            try:
+                envelope, note = envelope_for_result(result, builder, connections)
+            except Exception as error:  # noqa: BLE001 - the chart shows the note instead of the envelope
+                envelope, note = None, f"phase envelope skipped: {error}"
+            outcome = (None, envelope, note)
         self.call_from_thread(self._dome_done, key, outcome)
 
     def _dome_done(self, key, outcome) -> None:

@@ -1,12 +1,14 @@
 """Pressure-enthalpy and temperature-entropy charts drawn in text cells.
 
-Lines and the saturation dome are drawn in braille dots (2 x 4 dots a cell);
+Lines, the saturation dome of a pure fluid and the phase envelope (bubble
+and dew curves) of a mixture are drawn in braille dots (2 x 4 dots a cell);
 each stream is a point drawn as its tag (1, 2, ... then a, b, ...) with a
 legend underneath. Without colour the parts stay apart by their drawing: the
-dome is dotted, unit paths are solid, streams are tags.
+dome and envelope are dotted, unit paths are solid, streams are tags.
 
 Everything here only converts and lays out values that ``thermo`` computed;
-``saturation_dome`` asks ``thermo.flash`` for the saturation states.
+``saturation_dome`` asks ``thermo.flash`` for the saturation states and
+``tui.envelope`` traces the bubble and dew curves.
 """
 
 from __future__ import annotations
@@ -35,8 +37,10 @@ _DOT_BITS = {
 }
 
 LAYER_DOME = "dome"
+LAYER_ENVELOPE = "envelope"
 LAYER_PATH = "path"
-_LAYER_STYLES = {LAYER_DOME: Style(dim=True), LAYER_PATH: Style(bold=True)}
+_LAYER_STYLES = {LAYER_DOME: Style(dim=True), LAYER_ENVELOPE: Style(dim=True), LAYER_PATH: Style(bold=True)}
+ENVELOPE_CUT_NOTE = "envelope ends near the critical point (the points beyond did not converge)"
 
 
 # ------------------------------------------------------------------ data
@@ -90,6 +94,8 @@ class ChartData:
     lines: tuple[ChartLine, ...]
     dome: tuple[tuple[tuple[float, float], ...], ...] = ()  # curves: liquid side, vapor side
     notes: tuple[str, ...] = ()
+    envelope: tuple[tuple[tuple[float, float], ...], ...] = ()  # curves: bubble, dew
+    envelope_source: str = ""  # whose composition the envelope is of
 
 
 def _axes(kind: str, system: str):
@@ -121,10 +127,12 @@ def chart_data(
     system: str,
     *,
     dome: Dome | None = None,
+    envelope=None,
     connections: dict[str, tuple[Sequence[str], Sequence[str]]] | None = None,
     notes: Iterable[str] = (),
 ) -> ChartData:
-    """The points, paths and dome of ``result`` (a ``SheetResult``) for a
+    """The points, paths and dome or phase envelope (a
+    ``tui.envelope.PhaseEnvelope``) of ``result`` (a ``SheetResult``) for a
     chart of ``kind`` ("ph" or "ts") in the display ``system``.
 
     ``connections`` maps unit names to (inlet names, outlet names); without
@@ -162,7 +170,16 @@ def chart_data(
             vapor = [(s.vapor_entropy, s.temperature) for s in dome.states]
         for curve in (liquid, vapor):
             curves.append(tuple((to_display(a, x_kind, system), to_display(b, y_kind, system)) for a, b in curve))
-    return ChartData(kind, x_label, y_label, log_y, tuple(points), tuple(lines), tuple(curves), tuple(notes))
+    envelope_curves: list[tuple[tuple[float, float], ...]] = []
+    notes = list(notes)
+    if envelope is not None:
+        for side in (envelope.bubble, envelope.dew):
+            envelope_curves.append(tuple((to_display(x_of(s), x_kind, system), to_display(y_of(s), y_kind, system))
+                                         for s in side))
+        if envelope.cut:
+            notes.append(ENVELOPE_CUT_NOTE)
+    return ChartData(kind, x_label, y_label, log_y, tuple(points), tuple(lines), tuple(curves), tuple(notes),
+                     tuple(envelope_curves), envelope.source if envelope is not None else "")
 
 
 # ------------------------------------------------------------------ scales
@@ -292,7 +309,7 @@ def draw_chart(data: ChartData, width: int, height: int) -> list[Text]:
     width, height = max(width, 24), max(height, 8)
     xs = [p.x for p in data.points] + [x for line in data.lines for x in (line.start[0], line.end[0])]
     ys = [p.y for p in data.points] + [y for line in data.lines for y in (line.start[1], line.end[1])]
-    for curve in data.dome:
+    for curve in data.dome + data.envelope:
         xs.extend(x for x, _ in curve)
         ys.extend(y for _, y in curve)
     if data.log_y:
@@ -324,6 +341,12 @@ def draw_chart(data: ChartData, width: int, height: int) -> list[Text]:
     if len(data.dome) == 2 and data.dome[0] and data.dome[1]:
         top_liquid, top_vapor = data.dome[0][-1], data.dome[1][-1]
         canvas.line(*to_dot(*top_liquid), *to_dot(*top_vapor), layer=LAYER_DOME, every=2)
+    # The bubble and dew curves are left open at the top: where they stopped
+    # converging nothing is known of the curve between them.
+    for curve in data.envelope:
+        drawable = [(x, y) for x, y in curve if y > 0 or not data.log_y]
+        for (xa, ya), (xb, yb) in zip(drawable, drawable[1:]):
+            canvas.line(*to_dot(xa, ya), *to_dot(xb, yb), layer=LAYER_ENVELOPE, every=2)
     for line in data.lines:
         canvas.line(*to_dot(*line.start), *to_dot(*line.end), layer=LAYER_PATH)
     for point in data.points:
@@ -381,6 +404,9 @@ def legend_lines(data: ChartData, width: int) -> list[Text]:
     key = "tag = stream  ⣿ solid = unit path"
     key += "  ⡁ dotted = saturation dome" if data.dome else ""
     lines.append(Text(key[:width], style="dim"))
+    if data.envelope:
+        lines.append(Text(f"⡁ dotted = bubble line (left) and dew line (right) of {data.envelope_source}"[:width],
+                          style="dim"))
     for note in data.notes:
         lines.append(Text(note[:width], style="italic"))
     return lines

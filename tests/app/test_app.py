@@ -409,7 +409,9 @@ def test_help_chart_and_command_palette(run_solved):
         view = app.screen.query_one("#chart")
         assert [p.name for p in view.data.points] == ["well-gas", "lp-gas", "warm-gas", "export"]
         assert len(view.data.lines) == 3 and view.data.kind == "ph"
-        assert any("mixture" in note for note in view.data.notes)
+        # The test sheet is a mixture: its bubble and dew lines, drawn once the worker is done.
+        assert len(view.data.envelope) == 2 and view.data.envelope_source == "the sheet's composition"
+        assert not any("computing" in note for note in view.data.notes)
         await pilot.press("t")
         assert view.data.kind == "ts"
         await pilot.press("escape")

@@ -120,3 +120,109 @@ def test_dome_failure_is_a_note_not_an_error():
 
     dome, note = dome_for_result(_result(), broken)
     assert dome is None and "skipped" in note and "no model today" in note
+
+
+# ------------------------------------------------------------------ the phase envelope of a mixture
+
+ROOT = __import__("pathlib").Path(__file__).resolve().parents[2]
+
+
+def _solved_demo(name):
+    from thermo.flowsheet import build_mixture, solve_sheet
+    from thermo.models import make_model
+    from thermo.sheetfile import load_sheet
+
+    sheet = load_sheet(ROOT / "flowsheets" / name).sheet
+    connections = {unit_name: (unit.inlet_streams, unit.outlet_streams) for unit_name, unit in sheet.units.items()}
+    return solve_sheet(sheet), (lambda: make_model(sheet.model, build_mixture(sheet))), connections
+
+
+@pytest.fixture(scope="module")
+def letdown_envelope():
+    from tui.envelope import envelope_for_result
+
+    result, builder, connections = _solved_demo("gas-letdown.toml")
+    envelope, note = envelope_for_result(result, builder, connections)
+    return result, builder(), connections, envelope, note
+
+
+def _phases_beside(model, temperature, pressure, z, shift=0.2):
+    """Vapor fractions by an independent TP flash just colder and just hotter."""
+    from thermo.flash import flash_tp
+
+    return tuple(flash_tp(model, temperature + step, pressure, z).vapor_fraction for step in (-shift, shift))
+
+
+def test_envelope_points_are_bubble_and_dew_points_by_tp_flash(letdown_envelope):
+    # A bubble point is the warm edge of the all-liquid states at its pressure, a
+    # dew point the cold edge of the all-vapor ones (definitions: Michelsen and
+    # Mollerup, Thermodynamic Models, 2nd ed. (2007), ch. 12). thermo.flash.flash_tp
+    # (stability test, then a split) decides the phase without the envelope code.
+    result, model, _, envelope, note = letdown_envelope
+    assert note is None and len(envelope.bubble) >= 8 and len(envelope.dew) >= 8
+    z = np.array(envelope.composition)
+    for point in envelope.bubble:
+        colder, hotter = _phases_beside(model, point.temperature, point.pressure, z)
+        assert colder == 0.0 and 0.0 < hotter < 1.0, (point, colder, hotter)
+        if point.pressure < 0.8 * envelope.bubble[-1].pressure:
+            # Away from the critical point 0.2 K past a bubble point boils little of the feed.
+            assert hotter < 0.1, (point, hotter)
+    for point in envelope.dew:
+        colder, hotter = _phases_beside(model, point.temperature, point.pressure, z)
+        assert 0.99 < colder < 1.0 and hotter == 1.0, (point, colder, hotter)
+
+
+def test_envelope_is_of_the_sheet_composition_and_rises_in_pressure(letdown_envelope):
+    result, _, _, envelope, _ = letdown_envelope
+    feed = next(iter(result.streams.values())).state.composition
+    assert envelope.source == "the sheet's composition"
+    assert np.allclose(envelope.composition, feed)
+    for curve in (envelope.bubble, envelope.dew):
+        pressures = [s.pressure for s in curve]
+        assert pressures == sorted(pressures)
+        assert pressures[0] == pytest.approx(0.5 * min(s.state.pressure for s in result.streams.values()))
+    # Liquid lies below vapor in enthalpy at the same pressure (the bubble line left of the dew line).
+    assert envelope.bubble[0].enthalpy < envelope.dew[0].enthalpy
+
+
+def test_letdown_pressure_enthalpy_chart_draws_the_dotted_envelope(letdown_envelope):
+    from tui.chart import ENVELOPE_CUT_NOTE
+
+    result, _, connections, envelope, _ = letdown_envelope
+
+    def envelope_cells(data):
+        """Braille cells drawn in the dim style of the dotted layers."""
+        count = 0
+        for line in draw_chart(data, 100, 30):
+            for span in line.spans:
+                if span.style and getattr(span.style, "dim", False):
+                    count += sum(0x2800 < ord(c) <= 0x28FF for c in line.plain[span.start:span.end])
+        return count
+
+    data = chart_data(result, "ph", "SI", envelope=envelope, connections=connections)
+    bare = chart_data(result, "ph", "SI", connections=connections)
+    assert len(data.envelope) == 2 and data.envelope[0] and data.envelope[1]
+    assert envelope_cells(bare) == 0 and envelope_cells(data) > 40
+    key = " ".join(line.plain for line in legend_lines(data, 100))
+    assert "bubble line (left) and dew line (right) of the sheet's composition" in key
+    assert (ENVELOPE_CUT_NOTE in key) == envelope.cut
+    temperature_entropy = chart_data(result, "ts", "SI", envelope=envelope, connections=connections)
+    assert temperature_entropy.envelope[1][0][1] == pytest.approx(envelope.dew[0].temperature)
+
+
+def test_envelope_of_a_mixed_sheet_is_the_first_units_inlet():
+    from tui.envelope import envelope_feed
+
+    result = _result((0.9, 0.1), (0.8, 0.2))
+    z, source = envelope_feed(result, {"valve-1": (("feed",), ("product",))})
+    assert list(z) == [0.9, 0.1] and source == "feed (inlet of valve-1)"
+
+
+def test_ideal_gas_has_no_envelope_and_says_why():
+    import dataclasses
+
+    from tui.envelope import envelope_for_result
+
+    result = dataclasses.replace(_result((0.9, 0.1), (0.9, 0.1)), model="ideal-gas")
+    envelope, note = envelope_for_result(result, lambda: None)
+    assert envelope is None and "ideal gas never condenses" in note

@@ -43,7 +43,9 @@ KEYS = (
         ("ctrl+q", "quit (asks first when there are unsaved edits)"),
     )),
     ("Views", (
-        ("c", "chart: pressure-enthalpy; press t there for temperature-entropy"),
+        ("c", "chart: pressure-enthalpy; press t there for temperature-entropy. Streams are tags, unit "
+              "paths solid lines; dotted: a pure fluid's saturation dome, or a mixture's bubble and dew "
+              "lines of its feed composition (drawn a moment after the chart opens)"),
         ("ctrl+p", "command palette: every action by name"),
         ("?  or  f1", "this help"),
     )),
