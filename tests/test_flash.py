@@ -340,6 +340,42 @@ def test_regressions_found_by_random_states(names, fractions, t, p):
     assert len(back.phases) == len(state.phases)
 
 
+# Second liquids the Wilson-seeded trials missed, found by the valve and heater
+# sweep (tests/equipment/test_outlet_phase.py): the cohesion screen once let
+# ammonia (contrast 1.68-1.77 to these hydrocarbons), ethanol (1.32) and
+# nitrous oxide with methanol (1.29) through untested, and a vapor-like
+# stationary point half made of ammonia once struck ammonia's near-pure trial.
+# (components, mole ratios, T K, P Pa, phases, the component the extra liquid is rich in)
+SECOND_LIQUIDS = [
+    (["ammonia", "hydrogen", "isobutane"], [0.4517768, 0.4934275, 0.0547957], 188.39, 62130.0, 3, "isobutane"),
+    (["ethylbenzene", "isobutane", "ethanol"], [4, 4, 1], 150.0, 0.5e5, 2, "ethanol"),
+    (["ethylbenzene", "r-32", "ammonia"], [0.35714286, 0.26785714, 0.375], 150.0, 1e5, 2, "ammonia"),
+    (["nitrous-oxide", "oxygen", "methanol", "argon"], [1, 1, 1, 1], 145.0, 0.5e5, 3, "nitrous-oxide"),
+    (["1-butene", "acetone", "ammonia", "argon"], [1, 1, 1, 1], 149.7, 0.5e5, 3, "ammonia"),
+]
+
+
+@pytest.mark.parametrize("names, ratios, t, p, count, rich", SECOND_LIQUIDS)
+def test_second_liquids_once_missed(names, ratios, t, p, count, rich):
+    model = make_model("peng-robinson", make_mixture(names))
+    z = np.array(ratios, dtype=float) / sum(ratios)
+    state = flash_tp(model, t, p, z)
+    assert len(state.phases) == count
+    assert ln_fugacity_mismatch(model, state) < 1e-8
+    i = names.index(rich)
+    liquids = [ph for ph in state.phases if ph.label == "liquid"]
+    assert max(ph.composition[i] for ph in liquids) > 0.75
+    # the split lies below the one-phase feed in Gibbs energy
+    one = residual(model, t, p, z)
+    from thermo import idealgas
+
+    h_ig, s_ig = idealgas.enthalpy_entropy(model.mixture, t, p, z)
+    assert state.enthalpy - t * state.entropy < (h_ig + one.enthalpy) - t * (s_ig + one.entropy)
+    back = flash_ph(model, p, state.enthalpy, z, 300.0)
+    assert back.temperature == pytest.approx(t, rel=1e-8)
+    assert len(back.phases) == count
+
+
 def test_enthalpy_is_continuous_across_the_water_liquid_boundary():
     # Either side of where the hydrocarbon liquid gives way to the water-rich
     # one, H(T) at fixed P must change smoothly (it once jumped by 2400 J/mol

@@ -39,7 +39,15 @@ ACCELERATE_EVERY = 5
 # Extra near-pure liquid trials where condensable components (Tc above this
 # fraction of T) differ in cohesion sqrt(a_c)/b by more than this ratio.
 CONDENSABLE_TR = 0.6
-LIQUID_CONTRAST = 1.8
+# 1.25, not higher: under both cubics (no k_ij) a second liquid that the
+# Wilson-seeded trials miss forms in ammonia with isobutane (contrast 1.77) or
+# 1-butene (1.68), ethanol with ethylbenzene and isobutane (1.32), nitrous oxide
+# with methanol, oxygen and argon (1.29), each found by
+# tests/equipment/test_outlet_phase.py. Natural gases of light hydrocarbons
+# and nitrogen (at most 1.2) stay below; with CO2 (1.27) they are tested.
+LIQUID_CONTRAST = 1.25
+SCREEN_STEPS = 3  # substitution steps of a near-pure screening trial
+NEAR_PURE = 0.9  # mole fraction above which a stationary point counts as nearly pure
 PERMANENT_GAS_TC = 100.0  # K: hydrogen, helium, neon never condense in process streams
 LN_W_LIMIT = 200.0  # ln W is held above -this, so that no trial mole number underflows to zero
 LN_W_HIGH = 50.0  # and below this: a trial of e^50 moles per mole of feed has run away
@@ -171,7 +179,7 @@ def _second_liquid_candidates(state: CubicAtTP, z: np.ndarray, trials) -> list[i
     measure) differs by more than LIQUID_CONTRAST, a second liquid may form
     that Wilson-seeded trials miss (water with hydrocarbons; CO2, H2S or
     ammonia with heavier ones). Ordered from the most cohesive; components
-    already dominant in a stationary point found are left out."""
+    of which a stationary point found is nearly pure are left out."""
     kernel = state.kernel
     if kernel.size < 2:
         return []
@@ -181,9 +189,59 @@ def _second_liquid_candidates(state: CubicAtTP, z: np.ndarray, trials) -> list[i
     cohesion = kernel.sqrt_ac / kernel.b
     if float(cohesion[condensable].max()) < LIQUID_CONTRAST * float(cohesion[condensable].min()):
         return []
-    dominant = {int(np.argmax(t.composition)) for t in trials if t.outcome == "stationary"}
+    # A near-pure start would only find again a stationary point that is itself
+    # nearly pure in its component; one merely rich in it (a vapor-like point of
+    # half ammonia, say) says nothing of the near-pure liquid.
+    dominant = {int(np.argmax(t.composition)) for t in trials
+                if t.outcome == "stationary" and float(t.composition.max()) >= NEAR_PURE}
     order = np.argsort(-cohesion)
     return [int(i) for i in order if condensable[i] and int(i) not in dominant]
+
+
+def _near_pure(size: int, component: int) -> np.ndarray:
+    start = np.full(size, 1e-3 / size)
+    start[component] += 1.0 - 1e-3
+    return start
+
+
+def _screened_components(state: CubicAtTP, z: np.ndarray, trials, done: list[int],
+                         liquid: bool | None = None) -> list[int]:
+    """Condensable components whose near-pure liquid gets a short screen:
+    every one not tried in full already, nor nearly pure in a stationary
+    point found, when the tested phase is a liquid. The cohesion contrast of
+    _second_liquid_candidates is a rough guide (ethanol with hydrocarbons
+    splits into two liquids at a contrast of 1.3, under the cubics' own
+    equilibrium); the screen costs SCREEN_STEPS evaluations of ln phi per
+    component."""
+    if state.kernel.size < 2:
+        return []
+    if liquid is None:
+        liquid = state.ln_phi(z)[2]
+    if not liquid:
+        return []
+    condensable = state.kernel.tc > CONDENSABLE_TR * state.temperature
+    pure = {int(np.argmax(t.composition)) for t in trials
+            if t.outcome == "stationary" and float(t.composition.max()) >= NEAR_PURE}
+    return [i for i in range(state.kernel.size) if condensable[i] and i not in done and i not in pure]
+
+
+def _screen(state: CubicAtTP, z, ln_z, d, component: int) -> TrialResult | None:
+    """A near-pure trial of ``component`` cut short at SCREEN_STEPS
+    substitution steps: the unstable TrialResult if its tm falls below zero
+    by then, else None (a miscible component's trial only creeps toward the
+    feed, and following it to the end would cost a full trial each)."""
+    ln_w = np.log(_near_pure(len(z), component))
+    tm = math.inf
+    for _ in range(SCREEN_STEPS):
+        w_moles = np.exp(ln_w)
+        total = float(w_moles.sum())
+        ln_phi, _, _ = state.ln_phi(w_moles * (1.0 / total))
+        ln_w_new = np.minimum(np.maximum(d - ln_phi, -LN_W_LIMIT), LN_W_HIGH)
+        tm = 1.0 - total - float(w_moles @ (ln_w_new - ln_w))
+        if tm < UNSTABLE_TM:
+            return TrialResult("liquid-like", w_moles / total, tm, "unstable", SCREEN_STEPS)
+        ln_w = ln_w_new
+    return None
 
 
 def second_liquid_possible(kernel) -> bool:
@@ -201,7 +259,8 @@ def second_liquid_possible(kernel) -> bool:
 
 def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,
                    ln_phi_feed: np.ndarray | None = None, vapor_trial: bool = True,
-                   seed: np.ndarray | None = None, extra_trials: bool = True) -> StabilityResult:
+                   seed: np.ndarray | None = None, extra_trials: bool = True,
+                   feed_liquid: bool | None = None) -> StabilityResult:
     """Tangent-plane test of feed z (mole fractions over the kernel's active
     components, all positive) at the state's T and P, with trials seeded by
     the K-values ``k_wilson`` applied to z, or to ``seed`` where given (for a
@@ -209,10 +268,12 @@ def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,
     the tangent plane is the same from every phase). ``vapor_trial`` False
     leaves out the vapor-like trial (testing a liquid already in equilibrium
     with a vapor, that trial only finds the vapor again); ``extra_trials``
-    False leaves out the near-pure second-liquid trials."""
+    False leaves out the near-pure second-liquid trials; ``feed_liquid``
+    (whether z sits on a liquid-like root, if the caller knows) spares an
+    evaluation of ln phi."""
     ln_z = np.log(z)
     if ln_phi_feed is None:
-        ln_phi_feed, _, _ = state.ln_phi(z)
+        ln_phi_feed, _, feed_liquid = state.ln_phi(z)
     d = ln_z + ln_phi_feed
     ln_k = np.log(k_wilson)
     base = ln_z if seed is None else np.log(seed)
@@ -226,13 +287,19 @@ def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,
     unstable_vapor = vapor.outcome == "unstable"
     unstable_liquid = liquid.outcome == "unstable"
     if not (unstable_vapor or unstable_liquid):
-        for candidate in (_second_liquid_candidates(state, z, trials) if extra_trials else ()):
-            start = np.full(len(z), 1e-3 / len(z))
-            start[candidate] += 1.0 - 1e-3
-            extra = _trial(state, z, ln_z, d, np.log(start), "liquid-like")
+        candidates = _second_liquid_candidates(state, z, trials) if extra_trials else []
+        for candidate in candidates:
+            extra = _trial(state, z, ln_z, d, np.log(_near_pure(len(z), candidate)), "liquid-like")
             trials = trials + (extra,)
             if extra.outcome == "unstable":
                 return StabilityResult(False, trials, z / extra.composition, slow)
+        if extra_trials:
+            for candidate in _screened_components(state, z, trials, candidates, feed_liquid):
+                extra = _screen(state, z, ln_z, d, candidate)
+                if extra is not None:
+                    trials = trials + (extra,)
+                    if extra.outcome == "unstable":
+                        return StabilityResult(False, trials, z / extra.composition, slow)
         return StabilityResult(True, trials, None, slow)
     if unstable_vapor and unstable_liquid:
         k = vapor.composition / liquid.composition
