@@ -71,7 +71,15 @@ from .saturation import (
 from .stability import StabilityError, second_liquid_possible, stability_test
 from .state import LIQUID, VAPOR, StreamState
 from .three_phase import MultiSplit, multiphase_split
-from .two_phase import SWITCH_WARM, Split, SplitError, split, temperature_derivative
+from .two_phase import (
+    Split,
+    SplitError,
+    split,
+    split_at_target,
+    split_from_nearby,
+    substitution,
+    temperature_derivative,
+)
 
 __all__ = [
     "FlashError",
@@ -180,22 +188,35 @@ def _equilibrium(kernel: CubicKernel, temperature: float, pressure: float, z: np
     if kernel.size == 1:
         notes = (NEAR_CRITICAL,) if near_critical_pure(float(kernel.tc[0]), float(kernel.pc[0]), temperature, pressure) else ()
         return _Equilibrium(state, z, None, "auto", notes)
-    ln_phi_feed, _, _ = state.ln_phi(z)
+    ln_phi_feed, _, feed_liquid = state.ln_phi(z)
     if warm is not None:
-        try:
-            result = split(state, z, np.exp(warm[0]), warm[1], SWITCH_WARM)
-        except SplitError:
-            result = None
+        result = split_from_nearby(state, z, warm[0], warm[1])
         if result is not None and _lowers_gibbs(state, z, ln_phi_feed, result):
             return _from_split(state, z, result, where)
+    stability = _stability(kernel, state, z, ln_phi_feed, where, feed_liquid)
+    if stability.stable:
+        return _one_phase(state, z, stability)
+    return _split_unstable(kernel, state, z, stability, where)
+
+
+def _stability(kernel: CubicKernel, state: CubicAtTP, z: np.ndarray, ln_phi_feed: np.ndarray, where,
+               feed_liquid: bool | None = None):
+    """The tangent-plane test of feed z at the state's T and P, Wilson-seeded."""
     try:
-        stability = stability_test(state, z, wilson_k(kernel.tc, kernel.pc, kernel.omega, temperature, pressure), ln_phi_feed)
+        return stability_test(state, z, wilson_k(kernel.tc, kernel.pc, kernel.omega, state.temperature,
+                                                 state.pressure), ln_phi_feed, feed_liquid=feed_liquid)
     except StabilityError as error:
         raise FlashError(f"{where}: stability test failed: {error}") from None
-    if stability.stable:
-        return _Equilibrium(state, z, None, "auto", (NEAR_CRITICAL,) if stability.slow else ())
+
+
+def _one_phase(state: CubicAtTP, z: np.ndarray, stability) -> _Equilibrium:
+    return _Equilibrium(state, z, None, "auto", (NEAR_CRITICAL,) if stability.slow else ())
+
+
+def _split_unstable(kernel: CubicKernel, state: CubicAtTP, z: np.ndarray, stability, where) -> _Equilibrium:
+    """The equilibrium of a feed the stability test found unstable."""
     result = None
-    for start in (stability.k_estimate, wilson_k(kernel.tc, kernel.pc, kernel.omega, temperature, pressure)):
+    for start in (stability.k_estimate, wilson_k(kernel.tc, kernel.pc, kernel.omega, state.temperature, state.pressure)):
         try:
             result = split(state, z, start)
         except SplitError:
@@ -596,20 +617,37 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
     except (FlashError, ArithmeticError):
         single_t = None
     known = {}
+    multiphase = second_liquid_possible(kernel)
+    start = None
     if single_t is not None:
-        eq = _equilibrium(kernel, single_t, pressure, za, where)
-        if eq.split is None and eq.multi is None:
+        state = kernel.at(single_t, pressure)
+        ln_phi_feed, _, feed_liquid = state.ln_phi(za)
+        stability = _stability(kernel, state, za, ln_phi_feed, where, feed_liquid)
+        if stability.stable:
+            eq = _one_phase(state, za, stability)
             stream = _stream(model, single_t, pressure, z_full, active, eq)
             if abs((stream.enthalpy if kind == "H" else stream.entropy) - target) <= tolerance:
                 return _verified_target(stream, target, kind, tolerance, where)
             # the unevaluated last step did not land: the equilibrium search goes on from there
-        guess = single_t
-        known[single_t] = eq
+        elif not multiphase:
+            # Fast route: a few substitution steps from the stability test's K-values,
+            # then Newton's method on ln K and T together.
+            found = _two_phase_at_target(kernel, state, za, kind, target, tolerance, stability.k_estimate, where)
+            if found is not None:
+                t, eq = found
+                checked = _third_phase(kernel, eq, where)
+                if checked is eq:
+                    return _verified_target(_stream(model, t, pressure, z_full, active, eq), target, kind,
+                                            tolerance, where)
+                multiphase, start, guess, known = True, checked.multi, t, {}
+        if start is None:
+            eq = _one_phase(state, za, stability) if stability.stable else _split_unstable(
+                kernel, state, za, stability, where)
+            guess = single_t
+            known[single_t] = eq
     # Second pass: the equilibrium state at each temperature, started from the
     # last split carried to the new temperature along its own d ln K / dT; where
     # two liquids can form, with the phases' own stability tested each time.
-    multiphase = second_liquid_possible(kernel)
-    start = None
     for _ in range(3):
         evaluate = _equilibrium_evaluator(kernel, pressure, za, kind, where, known, multiphase, start)
         t, eq = _search_temperature(evaluate, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what)
@@ -620,6 +658,27 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
         # the multiphase equilibrium at every temperature.
         multiphase, start, guess, known = True, checked.multi, t, {}
     return _verified_target(_stream(model, t, pressure, z_full, active, checked), target, kind, tolerance, where)
+
+
+def _two_phase_at_target(kernel, state, za, kind, target, tolerance, k_start, where):
+    """(T, equilibrium) where a two-phase split of za meets the H or S
+    target, by ``split_at_target`` from substitution on K at the state's T
+    and P started from ``k_start``. Kept only if it passes the split's
+    verification and lowers the Gibbs energy below the one-phase feed's;
+    None otherwise (the temperature search then decides)."""
+    start = substitution(state, za, k_start)
+    if start is None:
+        return None
+    found = split_at_target(kernel, state.pressure, za, kind, target, tolerance, state.temperature, start[0], start[1])
+    if found is None:
+        return None
+    state, result = found
+    if not _lowers_gibbs(state, za, state.ln_phi(za)[0], result):
+        return None
+    try:
+        return state.temperature, _from_split(state, za, result, where)
+    except FlashError:
+        return None
 
 
 def _equilibrium_evaluator(kernel, pressure, za, kind, where, known, multiphase: bool,

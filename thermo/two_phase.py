@@ -21,15 +21,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from .components import R
-from .fugacity import CubicAtTP, PhaseDerivatives
+from .fugacity import CubicAtTP, CubicKernel, PhaseDerivatives
 from .flash_support import solve
 from .rachford_rice import RachfordRiceError, rachford_rice
 
 SWITCH_TO_NEWTON = 1e-3  # max |ln f_y - ln f_x| at which substitution hands over
-SWITCH_WARM = 1e-2  # the same for a start from a nearby converged split
 CONVERGED = 1e-11  # max |ln f_y - ln f_x| of a converged split
 QUADRATIC = 1e-6  # below this mismatch the next Newton step is taken as the last
 SUBSTITUTION_STEPS = 200
+PINNED_CONVERGED = 1e-8  # a substitution this settled with the vapor fraction at 0 or 1 stays there
 NEWTON_STEPS = 30
 ACCELERATE_EVERY = 5
 TRIVIAL_LN_K = 1e-4  # max |ln K| below which the phases have merged into one
@@ -85,17 +85,22 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
     K-values ``k_start``; None when the iteration collapses to one phase
     (trivial K-values, or a vapor fraction outside (0, 1) at convergence).
     Substitution hands over to Newton's method once max |ln f_y - ln f_x|
-    falls below ``switch`` (larger for a start already near the answer)."""
+    falls below ``switch``."""
+    start = substitution(state, z, k_start, beta_guess, switch)
+    if start is None:
+        return None
+    ln_k, beta, iterations = start
+    return _newton(state, z, ln_k, beta, iterations)
+
+
+def substitution(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: float | None = None,
+                 switch: float = SWITCH_TO_NEWTON) -> tuple[np.ndarray, float, int] | None:
+    """Accelerated successive substitution on ln K from ``k_start`` until
+    max |ln f_y - ln f_x| falls below ``switch`` with the vapor fraction
+    inside (0, 1): (ln K, vapor fraction, steps taken) to hand to a Newton
+    stage, or None when the iteration collapses to one phase."""
     ln_k = np.log(k_start)
     beta = beta_guess
-    if switch >= SWITCH_WARM:
-        # A start from a converged split at a nearby state: Newton at once.
-        try:
-            result = _newton(state, z, _limited(ln_k), beta, 0)
-        except SplitError:
-            result = None
-        if result is not None:
-            return result
     previous_delta = None
     saved = None
     previous_gibbs = math.inf
@@ -127,6 +132,8 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
         if error < switch and 0.0 < beta < 1.0:
             ln_k = ln_k_new
             break
+        if error < PINNED_CONVERGED and not 0.0 < beta < 1.0:
+            return None  # settled with the feed outside the split: one phase at these K-values
         if previous_delta is not None and iterations % ACCELERATE_EVERY == 0:
             overlap = float(previous_delta @ delta)
             eigen = float(delta @ delta) / overlap if overlap != 0.0 else 0.0
@@ -143,7 +150,21 @@ def split(state: CubicAtTP, z: np.ndarray, k_start: np.ndarray, beta_guess: floa
         ln_k = ln_k_new
     if not (0.0 < beta < 1.0):
         return None
-    return _newton(state, z, ln_k, beta, iterations)
+    return ln_k, beta, iterations
+
+
+def split_from_nearby(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float) -> Split | None:
+    """The split of feed z at the state's T and P by Newton's method alone,
+    from ln K and the vapor fraction of a converged split at a nearby state
+    (carried along its own derivatives); None where Newton's method does not
+    reach it. No substitution follows a failure: from such a start a failure
+    almost always means the state has left the two-phase region, where
+    substitution with the vapor fraction pinned at 0 or 1 only creeps for its
+    full count of steps; the caller's stability test decides instead."""
+    try:
+        return _newton(state, z, _limited(ln_k), beta, 0)
+    except SplitError:
+        return None
 
 
 def _newton(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float, done: int) -> Split | None:
@@ -210,6 +231,119 @@ def _newton(state: CubicAtTP, z: np.ndarray, ln_k: np.ndarray, beta: float, done
                 return final
         ln_k = ln_k + step
     raise SplitError(f"Newton stage did not reach equal fugacities in {NEWTON_STEPS} steps")
+
+
+TARGET_STEPS = 12  # Newton steps of the simultaneous PH/PS solve before the caller's search takes over
+TARGET_HALVINGS = 4  # halvings of a step that leaves the two-phase region, before giving up
+TARGET_T_STEP = 0.25  # largest temperature step, as a fraction of T
+
+
+def split_at_target(kernel: CubicKernel, pressure: float, z: np.ndarray, kind: str, target: float,
+                    tolerance: float, temperature: float, ln_k: np.ndarray,
+                    beta: float) -> tuple[CubicAtTP, Split] | None:
+    """The temperature (K) and two-phase split at ``pressure`` (Pa) whose
+    enthalpy (``kind`` "H", J/mol) or entropy ("S", J/(mol K)) per mole of
+    feed z meets ``target`` within ``tolerance``, by Newton's method on
+    ln K and T together, from ln K and the vapor fraction ``beta`` of a
+    split (converged, or from substitution part of the way) at
+    ``temperature``. Returns (state at the answer's T, split there), or None
+    where the iteration leaves the two-phase region or does not converge
+    (the caller then searches T with a full split at each step).
+
+    Equations: ln K_i + ln phi_i^y - ln phi_i^x = 0 and (value - target) /
+    scale = 0. With v_i = beta y_i the vapor moles, dH = sum_i (hbar_i^y -
+    hbar_i^x) dv_i + Cp dT at fixed phase amounts, where hbar_i - h_i^ig =
+    -R T^2 d ln phi_i/dT (Michelsen, Fluid Phase Equilib. 33 (1987) 13,
+    for the isenthalpic flash as one Newton system); for S,
+    sbar_i = s_i^ig - R ln w_i - R T d ln phi_i/dT - R ln phi_i and the
+    temperature term is Cp/T. Each step costs one set of phase derivatives,
+    where a search on T alone converges a whole split at every T."""
+    size = len(z)
+    eye = np.eye(size)
+    scale = R * temperature if kind == "H" else R  # makes the target equation dimensionless
+    ln_k = np.array(ln_k, dtype=float)
+    t = temperature
+    matrix = np.empty((size + 1, size + 1))
+    rhs = np.empty(size + 1)
+    step = None
+    for _ in range(TARGET_STEPS):
+        halvings = 0
+        while True:
+            if step is not None:
+                trial_ln_k = _limited(ln_k + step[:size])
+                trial_t = t + float(step[size])
+            else:
+                trial_ln_k, trial_t = ln_k, t
+            k = np.exp(trial_ln_k)
+            try:
+                trial_beta = rachford_rice(z, k, beta)
+            except RachfordRiceError:
+                trial_beta = -1.0
+            if 0.0 < trial_beta < 1.0 and trial_t > 0.0:
+                break
+            if step is None or halvings == TARGET_HALVINGS:
+                return None  # left the two-phase region: the caller brackets instead
+            step = 0.5 * step
+            halvings += 1
+        ln_k, t, beta = trial_ln_k, trial_t, trial_beta
+        state = kernel.at(t, pressure)
+        k_minus_1 = k - 1.0
+        denominator = 1.0 + beta * k_minus_1
+        x = z / denominator
+        y = k * x
+        x_n, y_n = x / x.sum(), y / y.sum()
+        props_y = state.derivatives(y_n)
+        props_x = state.derivatives(x_n)
+        ln_y, ln_x = np.log(y_n), np.log(x_n)
+        gradient = ln_y - ln_x + props_y.ln_phi - props_x.ln_phi
+        h_ideal = state.ideal_enthalpies()
+        cp_ideal = state.ideal_heat_capacities()
+        cp = beta * (float(y_n @ cp_ideal) + props_y.heat_capacity) + (1.0 - beta) * (
+            float(x_n @ cp_ideal) + props_x.heat_capacity)
+        rt = R * t
+        partial_difference = -rt * t * (props_y.dlnphi_dT - props_x.dlnphi_dT)  # hbar^y - hbar^x
+        if kind == "H":
+            value = beta * (float(y_n @ h_ideal) + props_y.enthalpy) + (1.0 - beta) * (
+                float(x_n @ h_ideal) + props_x.enthalpy)
+            slope_t = cp
+        else:
+            s_ideal = state.ideal_entropies()
+            value = beta * (float(y_n @ (s_ideal - R * ln_y)) + props_y.entropy) + (1.0 - beta) * (
+                float(x_n @ (s_ideal - R * ln_x)) + props_x.entropy)
+            partial_difference = partial_difference / t - R * gradient  # sbar^y - sbar^x
+            slope_t = cp / t
+        error = float(np.abs(gradient).max())
+        miss = value - target
+        if error < CONVERGED and abs(miss) <= tolerance:
+            if float(np.abs(ln_y - ln_x).max()) < TRIVIAL_LN_K:
+                return None
+            result = Split(beta, x_n, y_n, ln_y - ln_x, props_x, props_y,
+                           (props_x.enthalpy, props_x.entropy, props_x.heat_capacity),
+                           (props_y.enthalpy, props_y.entropy, props_y.heat_capacity), error, 0)
+            return state, result
+        # d beta / d ln K_j from the Rachford-Rice equation, then d x / d ln K, d y / d ln K
+        dbeta = (z * k / denominator**2) / float(z @ (k_minus_1**2 / denominator**2))
+        dx = -(x / denominator)[:, None] * (beta * k * eye + k_minus_1[:, None] * dbeta[None, :])
+        dy = k[:, None] * dx
+        dy.flat[:: size + 1] += y
+        dv = y[:, None] * dbeta[None, :] + beta * dy  # d(beta y_i) / d ln K_j
+        matrix[:size, :size] = eye + props_y.dlnphi_dn @ dy - props_x.dlnphi_dn @ dx
+        matrix[:size, size] = props_y.dlnphi_dT - props_x.dlnphi_dT
+        matrix[size, :size] = (partial_difference @ dv) / scale
+        matrix[size, size] = slope_t / scale
+        rhs[:size] = -gradient
+        rhs[size] = -miss / scale
+        try:
+            step = solve(matrix, rhs)
+        except np.linalg.LinAlgError:
+            return None
+        if not np.all(np.isfinite(step)):
+            return None
+        # an extrapolation, not a leap: at most TARGET_T_STEP of T and 2 in any ln K
+        reach = max(abs(float(step[size])) / (TARGET_T_STEP * t), float(np.abs(step[:size]).max()) / 2.0)
+        if reach > 1.0:
+            step = step / reach
+    return None
 
 
 def _checked_step(state, z, ln_k, beta, props_x, props_y, iterations) -> Split | None:
