@@ -111,11 +111,16 @@ FAST_PASS_STEPS = 12  # one-phase temperature search before the equilibrium sear
 LAST_STEP = 1e-3  # K: a Newton step this short in the one-phase search lands within the tolerance
 
 
-def _guarded(operation: str, spec_names: tuple[str, ...]):
+_KEYWORD_SPECS = (("temperature", "T"), ("pressure", "P"), ("vapor_fraction", "vapor_fraction"))
+
+
+def _guarded(operation: str, spec_names: tuple[str, ...], x_index: int | None = None):
     """Turn a numerical breakdown deep inside a flash (overflow, a singular
     matrix, a cubic without a root) into a FlashError naming the request;
     numpy's floating-point warnings are silenced inside, since every answer
-    is verified before it is returned."""
+    is verified before it is returned. ``spec_names`` name the positional
+    arguments after the model; the composition is the one after them, or
+    at ``x_index``."""
 
     def decorate(function):
         @functools.wraps(function)
@@ -127,8 +132,10 @@ def _guarded(operation: str, spec_names: tuple[str, ...]):
                     raise
                 except (ArithmeticError, np.linalg.LinAlgError, ValueError) as error:
                     values = dict(zip(spec_names, args))
+                    values.update({short: kwargs[long] for long, short in _KEYWORD_SPECS if long in kwargs})
                     spec = {k: float(v) for k, v in values.items() if isinstance(v, (int, float))}
-                    x = np.asarray(args[len(spec_names)] if len(args) > len(spec_names) else kwargs.get("x", []), dtype=float)
+                    at = len(spec_names) if x_index is None else x_index
+                    x = np.asarray(args[at] if len(args) > at else kwargs.get("x", []), dtype=float)
                     raise FlashError(
                         f"{operation} of {describe_state(model, x, **spec)}: numerical breakdown ({error})"
                     ) from None
@@ -742,7 +749,7 @@ def _check_fraction(vapor_fraction: float) -> None:
         raise StateInputError(f"vapor fraction {vapor_fraction!r} must lie between 0 and 1")
 
 
-@_guarded("phase-envelope point", ())
+@_guarded("phase-envelope point", ("x", "vapor_fraction"), x_index=0)
 def envelope(model, x: np.ndarray, vapor_fraction: float, temperature: float | None = None,
              pressure: float | None = None) -> EnvelopePoint:
     """The point of the phase envelope of feed x with the given vapor

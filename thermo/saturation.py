@@ -148,15 +148,27 @@ def _saturation_pressure(kernel, temperature: float, guess: float | None) -> Sat
     if low <= 0.0:
         low = high * 1e-300 if high > 0.0 else 1e-300
     ln_low, ln_high = math.log(low), math.log(high)
-    estimate = guess if guess is not None else lee_kesler_pressure(tc, pc, omega, temperature)
-    ln_p = math.log(estimate)
+    try:
+        estimate = guess if guess is not None else lee_kesler_pressure(tc, pc, omega, temperature)
+        ln_p = math.log(estimate)
+    except (OverflowError, ValueError):  # far below any triple point the correlation over- or underflows
+        ln_p = math.nan
     if not (ln_low < ln_p < ln_high):
         ln_p = 0.5 * (ln_low + ln_high) if ln_low > -600.0 else ln_high - 5.0
+    mismatch = math.nan
+    lost_roots = 0
     for _ in range(200):
         state = kernel.at(temperature, math.exp(ln_p))
         roots = _both_roots(state, x)
         if roots is None:
             # Rounding at a bracket end; move inside.
+            lost_roots += 1
+            if lost_roots > 60:
+                raise FlashError(
+                    f"{where} (reduced temperature {temperature / tc:.3g}): the model's liquid and vapor roots "
+                    "cannot both be resolved in double precision at the tiny vapor pressures there; ask at a "
+                    "higher temperature"
+                )
             ln_p = 0.5 * (ln_low + ln_high)
             continue
         ln_phi_l, z_l, ln_phi_v, z_v = roots
@@ -193,12 +205,33 @@ def _saturation_pressure(kernel, temperature: float, guess: float | None) -> Sat
     )
 
 
+def _real_number(value, what: str, unit: str) -> float:
+    """``value`` as a float, or a FlashError saying it is not a number."""
+    if isinstance(value, bool) or not isinstance(value, (int, float, np.floating, np.integer)):
+        raise FlashError(f"saturation: the {what} {value!r} is not a number of {unit}")
+    return float(value)
+
+
+def _guarded(where: str, compute):
+    """compute(), with a numerical breakdown (overflow, a domain error, a
+    singular matrix) turned into a FlashError naming the state."""
+    try:
+        with np.errstate(all="ignore"):
+            return compute()
+    except FlashError:
+        raise
+    except (ArithmeticError, ValueError, np.linalg.LinAlgError) as error:
+        raise FlashError(f"{where}: numerical breakdown ({error})") from None
+
+
 def saturation_point(model, temperature: float, component: int | str) -> SaturationPoint:
     """The saturation state of pure ``component`` (index into the model's
     mixture, or its name) at ``temperature`` (K)."""
+    temperature = _real_number(temperature, "temperature", "kelvin")
     model = _require_liquid_model(model, f"saturation at T = {temperature:.8g} K")
     index = _component_index(model, component)
-    return _saturation_pressure(kernel_for(model, (index,)), temperature, None)
+    where = f"{model.name} saturation of {model.mixture.names[index]} at T = {temperature:.8g} K"
+    return _guarded(where, lambda: _saturation_pressure(kernel_for(model, (index,)), temperature, None))
 
 
 def saturation_pressure(model, temperature: float, component: int | str) -> float:
@@ -215,8 +248,14 @@ def vaporization_enthalpy(model, temperature: float, component: int | str) -> fl
 
 def saturation_temperature_point(model, pressure: float, component: int | str) -> SaturationPoint:
     """The saturation state of pure ``component`` at ``pressure`` (Pa)."""
+    pressure = _real_number(pressure, "pressure", "pascals")
     model = _require_liquid_model(model, f"saturation at P = {pressure:.8g} Pa")
     index = _component_index(model, component)
+    where = f"{model.name} saturation of {model.mixture.names[index]} at P = {pressure:.8g} Pa"
+    return _guarded(where, lambda: _saturation_temperature(model, pressure, index))
+
+
+def _saturation_temperature(model, pressure: float, index: int) -> SaturationPoint:
     kernel = kernel_for(model, (index,))
     tc, pc, omega = float(kernel.tc[0]), float(kernel.pc[0]), float(kernel.omega[0])
     name = model.mixture.names[index]
@@ -237,7 +276,10 @@ def saturation_temperature_point(model, pressure: float, component: int | str) -
     next_guess = None
     for _ in range(100):
         t = 1.0 / u
-        point = _saturation_pressure(kernel, t, next_guess)
+        try:
+            point = _saturation_pressure(kernel, t, next_guess)
+        except FlashError as error:
+            raise FlashError(f"{where}: on the way, {error}") from None
         miss = math.log(point.pressure / pressure)
         if abs(miss) < 1e-13:
             break
