@@ -389,10 +389,39 @@ def test_enthalpy_is_continuous_across_the_water_liquid_boundary():
     assert steps.max() < 3.0 * steps.min()
 
 
-def test_vapor_fraction_flash_refuses_a_point_where_a_second_liquid_forms():
+def test_vapor_fraction_flash_with_a_second_liquid():
+    # At 41.3 bar the two-phase point with vapor fraction 0.3 has an unstable
+    # liquid (water would separate): the flash finds the state with both liquids.
     model = make_model("peng-robinson", make_mixture(WET_GAS_NAMES))
+    state = flash_pv(model, 41.3e5, 0.3, WET_GAS)
+    assert len(state.phases) == 3 and "three-phase" in state.notes
+    assert state.vapor_fraction == pytest.approx(0.3, abs=1e-9)
+    assert ln_fugacity_mismatch(model, state) < 1e-8
+    balance = sum(p.amount * p.composition for p in state.phases) - WET_GAS
+    assert np.max(np.abs(balance)) < 1e-10
+    again = flash_tp(model, state.temperature, 41.3e5, WET_GAS)
+    assert len(again.phases) == 3 and again.vapor_fraction == pytest.approx(0.3, abs=1e-8)
+    by_t = flash_tv(model, state.temperature, 0.3, WET_GAS)
+    assert by_t.pressure == pytest.approx(41.3e5, rel=1e-7)
+    # vapor fraction 0: the two liquids at the temperature where vapor first appears
+    first = flash_pv(model, 41.3e5, 0.0, WET_GAS)
+    assert first.vapor_fraction == 0.0 and sorted(p.label for p in first.phases) == ["liquid", "liquid"]
+    assert flash_tp(model, first.temperature + 0.01, 41.3e5, WET_GAS).vapor_fraction > 0.0
+    # the bubble point proper, a two-phase calculation, still says why it refuses
     with pytest.raises(FlashError, match="another liquid would form"):
-        flash_pv(model, 41.3e5, 0.3, WET_GAS)
+        bubble_temperature(model, 41.3e5, WET_GAS)
+
+
+def test_vapor_fraction_that_no_state_has_is_refused_clearly():
+    # Water and n-hexane: at fixed pressure a vapor and both liquids coexist at
+    # one temperature only, where the vapor fraction jumps from 0 to about 1/3.
+    model = make_model("peng-robinson", make_mixture(["water", "n-hexane"]))
+    with pytest.raises(FlashError) as caught:
+        flash_pv(model, 5e5, 0.2, np.array([0.5, 0.5]))
+    message = str(caught.value)
+    assert "jumps from 0 to" in message and "Specify the enthalpy" in message and "P = 500000 Pa" in message
+    liquids = flash_pv(model, 5e5, 0.0, np.array([0.5, 0.5]))
+    assert liquids.vapor_fraction == 0.0 and len(liquids.phases) == 2
 
 
 # --- models without a liquid -------------------------------------------------------------

@@ -26,8 +26,16 @@ trials crept onto the feed), "three-phase", "liquid-liquid" (no vapor among
 the phases). A stream of three phases still has the phase label
 "two-phase" (more than one phase); its phases say which.
 
-Not handled: a vapor-fraction flash (flash_pv, flash_tv) and bubble and dew
-points look for two phases only; four or more phases are not sought.
+A vapor-fraction flash (flash_pv, flash_tv) looks first for the two-phase
+point; where its liquid proves unstable (a second liquid, as water beside
+hydrocarbons, would form), or the two-phase search fails for a feed that can
+form two liquids, it finds the temperature (or pressure) at which the full
+equilibrium, every phase included, has that vapor fraction. Where the vapor
+fraction jumps across the value asked (a vapor and two liquids at a single
+temperature, as in a binary), FlashError says so and what to specify instead.
+Not handled: bubble and dew points (bubble_temperature and the rest,
+envelope) look for two phases only and refuse where a second liquid would
+form; four or more phases are not sought.
 
 SI units: K, Pa, J/mol, J/(mol K); compositions are mole-fraction vectors
 over the model's mixture.
@@ -884,11 +892,159 @@ def _check_envelope_stability(kernel: CubicKernel, point: EnvelopePoint, where) 
     except StabilityError:
         return
     if not stability.stable:
-        raise FlashError(
+        raise SecondLiquidError(
             f"{where}: at the point found (T = {point.temperature:.6g} K, P = {point.pressure:.6g} Pa) "
-            "another liquid would form, so it is not the equilibrium; bubble points, dew points and "
-            "vapor-fraction flashes look for two phases only (use a TP, PH or PS flash there)"
+            "another liquid would form (as water beside hydrocarbons), so this two-phase bubble or dew "
+            "point is not the equilibrium; a vapor-fraction flash finds the state with both liquids, "
+            "or use a TP, PH or PS flash there",
+            point,
         )
+
+
+class SecondLiquidError(FlashError):
+    """A two-phase envelope point whose liquid is unstable: another liquid
+    forms first. ``point`` is the (non-equilibrium) two-phase point found."""
+
+    def __init__(self, message: str, point: EnvelopePoint):
+        super().__init__(message)
+        self.point = point
+
+
+FRACTION_TOLERANCE = 1e-10  # |vapor fraction - target| of a vapor-fraction flash with three phases
+FRACTION_SCAN_STEP = 1.02  # ratio between the temperatures (or pressures) of the outward scan
+FRACTION_SCAN_STEPS = 120
+
+
+def _multiphase_at_fraction(model, kernel: CubicKernel, za: np.ndarray, beta: float, fixed: str, value: float,
+                            start: float, where) -> tuple[float, float, _Equilibrium]:
+    """(T K, P Pa, equilibrium) where the equilibrium of feed za, with all
+    the phases it forms (two liquids and a vapor included), has vapor
+    fraction ``beta``, at fixed temperature (``fixed`` "T", ``value`` K) or
+    pressure ("P", Pa). The free variable is scanned outward from ``start``
+    (the two-phase point that proved not to be the equilibrium) until the
+    vapor fraction crosses ``beta``, then found by regula falsi (Illinois
+    variant) inside that bracket. Raises FlashError where the vapor fraction
+    jumps across ``beta`` (three phases at a single temperature, as a binary
+    has) or no crossing is found."""
+    rising = fixed == "P"  # the vapor fraction rises with T at fixed P, falls with P at fixed T
+    warm = [None]
+
+    def signed(u: float):
+        t, p = (u, value) if fixed == "P" else (value, u)
+        eq = _third_phase(kernel, _equilibrium(kernel, t, p, za, where), where, warm[0])
+        if eq.multi is not None:
+            warm[0] = eq.multi
+        fraction = _vapor_amount(eq)
+        if beta == 0.0:  # the first bubble: no vapor below, some above
+            g = fraction if fraction > 0.0 else -1.0
+        elif beta == 1.0:  # the first drop
+            g = 1.0 if fraction >= 1.0 else fraction - 1.0
+        else:
+            g = fraction - beta
+        return (g if rising else -g), eq
+
+    name, unit = ("temperature", "K") if fixed == "P" else ("pressure", "Pa")
+    if start is None:
+        # No two-phase point to start from: the grid of the envelope's own bracketing route.
+        if fixed == "P":
+            grid = np.geomspace(max(20.0, 0.25 * float(kernel.tc.min())), min(3000.0, 3.0 * float(kernel.tc.max())),
+                                ENVELOPE_GRID)
+        else:
+            grid = np.geomspace(1e2, 5e8, ENVELOPE_GRID)
+        previous = None
+        for u in grid:
+            g, eq = signed(float(u))
+            if previous is not None and previous[1] < 0.0 <= g:
+                (u1, g1, eq1), (u2, g2, eq2) = previous, (float(u), g, eq)
+                break
+            previous = (float(u), g, eq)
+        else:
+            raise FlashError(f"{where}: with every phase the feed can form taken into account, no {name} between "
+                             f"{grid[0]:.4g} and {grid[-1]:.4g} {unit} gives this vapor fraction")
+    else:
+        low_limit, high_limit = (T_SEARCH_LOW, T_SEARCH_HIGH) if fixed == "P" else (1e2, 5e8)
+        u0 = min(max(start, low_limit), high_limit)
+        g0, eq0 = signed(u0)
+        if g0 == 0.0:
+            return (u0, value, eq0) if fixed == "P" else (value, u0, eq0)
+        # g rises with u: step up while below the target, down while above
+        factor = FRACTION_SCAN_STEP if g0 < 0.0 else 1.0 / FRACTION_SCAN_STEP
+        u1, g1, eq1 = u0, g0, eq0
+        for _ in range(FRACTION_SCAN_STEPS):
+            u2 = min(max(u1 * factor, low_limit), high_limit)
+            g2, eq2 = signed(u2)
+            if (g2 >= 0.0) != (g1 >= 0.0):
+                break
+            if u2 in (low_limit, high_limit):
+                raise FlashError(f"{where}: with the second liquid taken into account, no {name} between "
+                                 f"{u0:.6g} and {u2:.6g} {unit} gives this vapor fraction")
+            u1, g1, eq1 = u2, g2, eq2
+        else:
+            raise FlashError(f"{where}: with the second liquid taken into account, the vapor fraction did not "
+                             f"cross the target within {FRACTION_SCAN_STEPS} scan steps")
+    (a, ga, eqa), (b, gb, eqb) = sorted(((u1, g1, eq1), (u2, g2, eq2)), key=lambda item: item[0])
+    side = 0
+    for _ in range(200):
+        if beta in (0.0, 1.0):
+            middle = 0.5 * (a + b)  # the ends are ties, not smooth crossings: bisect
+        else:
+            middle = (a * gb - b * ga) / (gb - ga)
+            if not a < middle < b:
+                middle = 0.5 * (a + b)
+        gm, eqm = signed(middle)
+        if beta in (0.0, 1.0):
+            if b - a <= 1e-9 * b:  # the end point to within a microkelvin or so
+                break
+        elif abs(gm) <= FRACTION_TOLERANCE or b - a <= 1e-13 * b:
+            break
+        if gm < 0.0:
+            a, ga, eqa = middle, gm, eqm
+            if side == -1 and beta not in (0.0, 1.0):
+                gb *= 0.5  # Illinois: keep the stale end from holding the secant back
+            side = -1
+        else:
+            b, gb, eqb = middle, gm, eqm
+            if side == 1 and beta not in (0.0, 1.0):
+                ga *= 0.5
+            side = 1
+    if beta in (0.0, 1.0):
+        # The end of the bracket where the vapor fraction is exactly beta: the
+        # liquids with no vapor yet (beta 0), the vapor with no liquid yet (beta 1).
+        middle, eqm = (a, eqa) if (beta == 0.0) == rising else (b, eqb)
+        gm = 0.0
+    if abs(gm) > FRACTION_TOLERANCE and beta not in (0.0, 1.0):
+        low_fraction = _vapor_amount(eqa if rising else eqb)
+        high_fraction = _vapor_amount(eqb if rising else eqa)
+        raise FlashError(
+            f"{where}: the vapor fraction jumps from {low_fraction:.4g} to {high_fraction:.4g} at "
+            f"{name} {middle:.8g} {unit}, where a vapor and two liquids coexist at "
+            f"a single {name}; a vapor fraction in between fixes no state there. Specify the "
+            "enthalpy instead (a heater's duty, or a feed's temperature and pressure)"
+        )
+    return (middle, value, eqm) if fixed == "P" else (value, middle, eqm)
+
+
+def _two_liquids_possible(model, active) -> bool:
+    return _is_cubic(model) and len(active) >= 2 and second_liquid_possible(kernel_for(model, active))
+
+
+def _fraction_by_multiphase(model, z: np.ndarray, active, beta: float, fixed: str, value: float,
+                            refused: SecondLiquidError | None) -> StreamState:
+    """The vapor-fraction flash where the two-phase point proved unstable
+    (``refused``), or was not found for a feed that can form two liquids
+    (``refused`` None: the search starts from a grid)."""
+    kernel = kernel_for(model, active)
+    za = z[list(active)]
+    where = lazy_description(f"vapor fraction {beta:g} flash of ", model, z, **{fixed: value})
+    if refused is None:
+        start = None
+    else:
+        start = refused.point.temperature if fixed == "P" else refused.point.pressure
+    t, p, eq = _multiphase_at_fraction(model, kernel, za, beta, fixed, value, start, where)
+    stream = _stream(model, t, p, z, active, eq)
+    if not abs(stream.vapor_fraction - beta) <= 1e-8:
+        raise FlashError(f"{where}: the state found has vapor fraction {stream.vapor_fraction:.10g}, not {beta:g}")
+    return stream
 
 
 def bubble_pressure(model, temperature: float, x: np.ndarray) -> float:
@@ -935,10 +1091,20 @@ def _stream_at_fraction(model, point: EnvelopePoint, z: np.ndarray, active) -> S
 def flash_pv(model, pressure: float, vapor_fraction: float, x: np.ndarray) -> StreamState:
     """Equilibrium state at pressure (Pa) with the given vapor fraction
     (mol vapor per mol stream, 0 = saturated liquid, 1 = saturated vapor):
-    the temperature is found. Heaters with a vapor-fraction outlet use it."""
+    the temperature is found. Heaters with a vapor-fraction outlet use it.
+    With two liquids the vapor fraction counts the vapor alone, and 0 is
+    the liquids at the temperature where vapor first appears."""
     _check_fraction(vapor_fraction)
     z, active = _prepare(model, 300.0, pressure, x)
-    point = envelope(model, z, vapor_fraction, pressure=pressure)
+    try:
+        point = envelope(model, z, vapor_fraction, pressure=pressure)
+    except SecondLiquidError as refused:
+        return _fraction_by_multiphase(model, z, active, float(vapor_fraction), "P", pressure, refused)
+    except FlashError:
+        if not _two_liquids_possible(model, active):
+            raise
+        # The two-phase search failed where a second liquid can form: look with every phase.
+        return _fraction_by_multiphase(model, z, active, float(vapor_fraction), "P", pressure, None)
     return _stream_at_fraction(model, point, z, active)
 
 
@@ -948,5 +1114,13 @@ def flash_tv(model, temperature: float, vapor_fraction: float, x: np.ndarray) ->
     the pressure is found."""
     _check_fraction(vapor_fraction)
     z, active = _prepare(model, temperature, 1e5, x)
-    point = envelope(model, z, vapor_fraction, temperature=temperature)
+    try:
+        point = envelope(model, z, vapor_fraction, temperature=temperature)
+    except SecondLiquidError as refused:
+        return _fraction_by_multiphase(model, z, active, float(vapor_fraction), "T", temperature, refused)
+    except FlashError:
+        if not _two_liquids_possible(model, active):
+            raise
+        # The two-phase search failed where a second liquid can form: look with every phase.
+        return _fraction_by_multiphase(model, z, active, float(vapor_fraction), "T", temperature, None)
     return _stream_at_fraction(model, point, z, active)
