@@ -232,6 +232,20 @@ class CubicAtTP:
         ln_phi -= math.log(z - big_b)
         return ln_phi, z, liquid
 
+    def ln_phi_rows(self, rows: np.ndarray) -> np.ndarray:
+        """ln(phi_i) of each row of mole fractions (one composition per row,
+        lowest-Gibbs root each): ``ln_phi`` for many trial phases at once."""
+        s = rows @ self.big_a
+        big_a = np.einsum("ij,ij->i", s, rows)
+        big_b = rows @ self.big_b
+        z = np.empty(len(rows))
+        log_ratio = np.empty(len(rows))
+        for k in range(len(rows)):
+            z[k], log_ratio[k], _ = self._choose(float(big_a[k]), float(big_b[k]), "auto")
+        attraction = big_a / (big_b * self.kernel.span) * log_ratio
+        return (self.big_b[None, :] * ((z - 1.0 + attraction) / big_b)[:, None]
+                - s * (2.0 * attraction / big_a)[:, None] - np.log(z - big_b)[:, None])
+
     def reduced_gibbs(self, x: np.ndarray, root: str = "auto") -> float:
         """G_res / (R T) of one mole at mole fractions x."""
         big_a = float(x @ self.big_a @ x)

@@ -225,21 +225,26 @@ def _screened_components(state: CubicAtTP, z: np.ndarray, trials, done: list[int
     return [i for i in range(state.kernel.size) if condensable[i] and i not in done and i not in pure]
 
 
-def _screen(state: CubicAtTP, z, ln_z, d, component: int) -> TrialResult | None:
-    """A near-pure trial of ``component`` cut short at SCREEN_STEPS
-    substitution steps: the unstable TrialResult if its tm falls below zero
-    by then, else None (a miscible component's trial only creeps toward the
-    feed, and following it to the end would cost a full trial each)."""
-    ln_w = np.log(_near_pure(len(z), component))
-    tm = math.inf
+def _screen(state: CubicAtTP, z, d, components: list[int]) -> TrialResult | None:
+    """Near-pure trials of ``components``, all at once, cut short at
+    SCREEN_STEPS substitution steps: the first whose tm falls below zero by
+    then as an unstable TrialResult, else None (a miscible component's trial
+    only creeps toward the feed, and following it to the end would cost a
+    full trial each)."""
+    if not components:
+        return None
+    ln_w = np.log(np.array([_near_pure(len(z), i) for i in components]))
     for _ in range(SCREEN_STEPS):
         w_moles = np.exp(ln_w)
-        total = float(w_moles.sum())
-        ln_phi, _, _ = state.ln_phi(w_moles * (1.0 / total))
+        totals = w_moles.sum(axis=1)
+        ln_phi = state.ln_phi_rows(w_moles / totals[:, None])
         ln_w_new = np.minimum(np.maximum(d - ln_phi, -LN_W_LIMIT), LN_W_HIGH)
-        tm = 1.0 - total - float(w_moles @ (ln_w_new - ln_w))
-        if tm < UNSTABLE_TM:
-            return TrialResult("liquid-like", w_moles / total, tm, "unstable", SCREEN_STEPS)
+        tm = 1.0 - totals - np.einsum("ij,ij->i", w_moles, ln_w_new - ln_w)
+        tm[~np.isfinite(tm)] = np.inf  # a trial that broke down proves nothing
+        lowest = int(np.argmin(tm))
+        if tm[lowest] < UNSTABLE_TM:
+            return TrialResult("liquid-like", w_moles[lowest] / totals[lowest], float(tm[lowest]), "unstable",
+                               SCREEN_STEPS)
         ln_w = ln_w_new
     return None
 
@@ -294,12 +299,10 @@ def stability_test(state: CubicAtTP, z: np.ndarray, k_wilson: np.ndarray,
             if extra.outcome == "unstable":
                 return StabilityResult(False, trials, z / extra.composition, slow)
         if extra_trials:
-            for candidate in _screened_components(state, z, trials, candidates, feed_liquid):
-                extra = _screen(state, z, ln_z, d, candidate)
-                if extra is not None:
-                    trials = trials + (extra,)
-                    if extra.outcome == "unstable":
-                        return StabilityResult(False, trials, z / extra.composition, slow)
+            extra = _screen(state, z, d, _screened_components(state, z, trials, candidates, feed_liquid))
+            if extra is not None:
+                trials = trials + (extra,)
+                return StabilityResult(False, trials, z / extra.composition, slow)
         return StabilityResult(True, trials, None, slow)
     if unstable_vapor and unstable_liquid:
         k = vapor.composition / liquid.composition
