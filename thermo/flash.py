@@ -12,7 +12,10 @@ temperature with Newton's method inside a maintained bracket, falling back to
 bisection, on the equilibrium enthalpy or entropy, whose temperature
 derivative (phase change included) is analytic. For a pure component inside
 its two-phase region the temperature is the saturation temperature and the
-vapor fraction carries the enthalpy or entropy.
+vapor fraction carries the enthalpy or entropy; for a binary whose target
+falls in the jump at its three-phase temperature (a vapor and two liquids
+coexist at one temperature per pressure), the state is the three phases at
+that temperature and their amounts carry it.
 
 The ideal-gas and virial models have no liquid root: their streams are
 single-phase vapor, and saturation requests on them raise FlashError.
@@ -44,6 +47,7 @@ over the model's mixture.
 from __future__ import annotations
 
 import functools
+import itertools
 import math
 from dataclasses import dataclass
 
@@ -78,7 +82,8 @@ from .saturation import (
 )
 from .stability import StabilityError, second_liquid_possible, stability_test
 from .state import LIQUID, VAPOR, StreamState
-from .three_phase import MultiSplit, multiphase_split
+from .three_phase import MERGE as MULTI_MERGE
+from .three_phase import BinaryThreePhase, MultiSplit, binary_three_phase, multiphase_split
 from .two_phase import (
     Split,
     SplitError,
@@ -291,7 +296,8 @@ def _verify_split(state: CubicAtTP, z: np.ndarray, result: Split, where: str) ->
         )
 
 
-def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit | None = None) -> _Equilibrium:
+def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit | None = None,
+                 test_warm: bool = True) -> _Equilibrium:
     """The equilibrium once the phases of a two-phase answer are tested for
     stability themselves: where a third phase would form (vapor and two
     liquids), Michelsen's multiphase split from the two phases and the trial
@@ -299,14 +305,21 @@ def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit 
     binary's split is tested too: where its phase proves unstable the split
     is a metastable one (water with n-hexane at 5 bar once came out 60 %
     vapor at 375 K, where two liquids have the lower Gibbs energy), and the
-    multiphase method finds the stable pair."""
+    multiphase method finds the stable pair. ``test_warm`` False returns a
+    split reached from ``warm`` untested (for a finite-difference neighbour
+    of a state that is tested itself)."""
     if kernel.size < 2:
         return eq
     state = eq.state
     if warm is not None:
         found = multiphase_split(state, eq.z, list(warm.compositions))
         if found is not None and len(found.amounts) == len(warm.amounts):
-            return _from_multi(state, eq.z, found, where)
+            # Carried on from a neighbouring temperature the phases can outlast
+            # their range (two liquids of water and n-octane were once kept 7 K
+            # past where the vapor forms): they are tested like any other answer.
+            eq = _from_multi(state, eq.z, found, where)
+            if not test_warm:
+                return eq
     if eq.split is None and eq.multi is None:
         return eq
     phases = [eq.split.y, eq.split.x] if eq.split is not None else list(eq.multi.compositions)
@@ -319,6 +332,11 @@ def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit 
             stability = stability_test(state, phases[-1], k_wilson, vapor_trial=not has_vapor)
             if stability.stable and second_liquid_possible(kernel):
                 stability = stability_test(state, phases[-1], k_wilson, seed=eq.z, extra_trials=False)
+                if stability.stable and has_vapor:
+                    # A second liquid close to the vapor in make-up (carbon dioxide condensing
+                    # beside water just below the three-phase temperature) is reached only by
+                    # the vapor's own liquid-like trial; from the water it falls onto the vapor.
+                    stability = stability_test(state, phases[0], k_wilson, vapor_trial=False, extra_trials=False)
         except StabilityError:
             return eq
         if stability.stable:
@@ -483,6 +501,18 @@ def _flash_p_spec(model, pressure, target, x, guess, kind) -> StreamState:
     return _mixture_p_spec(model, kernel, pressure, target, z, za, active, guess, kind, where, tolerance)
 
 
+class _TemperatureJump(FlashError):
+    """The temperature search closed its bracket on a jump in H or S: the
+    payloads of the evaluations just below and just above it travel along,
+    for a caller that can resolve the jump (a binary's three phases)."""
+
+    def __init__(self, message: str, temperature: float, below, above):
+        super().__init__(message)
+        self.temperature = temperature
+        self.below = below
+        self.above = above
+
+
 def _search_temperature(evaluate, target, guess, low, high, tolerance, where, what, max_steps=200,
                         last_step: float = 0.0):
     """Temperature (K) at which evaluate(T) -> (value, d value/dT, payload)
@@ -497,6 +527,7 @@ def _search_temperature(evaluate, target, guess, low, high, tolerance, where, wh
     for a caller that evaluates and verifies the state there anyway."""
     t = min(max(guess, low), high)
     below = above = None  # temperatures known to give values below / above the target
+    below_payload = above_payload = None
     previous = math.inf
     for _ in range(max_steps):
         value, slope, payload = evaluate(t)
@@ -506,18 +537,19 @@ def _search_temperature(evaluate, target, guess, low, high, tolerance, where, wh
         if last_step > 0.0 and slope > 0.0 and abs(miss / slope) < last_step and abs(miss) < 0.5 * previous:
             return t - miss / slope, None
         if miss < 0.0:
-            below = t
+            below, below_payload = t, payload
             if t >= high:
                 raise FlashError(f"{where}: the {what} target lies above what {high:.6g} K gives")
         else:
-            above = t
+            above, above_payload = t, payload
             if t <= low:
                 raise FlashError(f"{where}: the {what} target lies below what {low:.6g} K gives")
         lo = below if below is not None else low
         hi = above if above is not None else high
         if hi - lo <= 1e-13 * t:
-            raise FlashError(
-                f"{where}: no temperature meets the {what} target: the {what} jumps across it at {t:.10g} K"
+            raise _TemperatureJump(
+                f"{where}: no temperature meets the {what} target: the {what} jumps across it at {t:.10g} K",
+                t, below_payload, above_payload,
             )
         newton = t - miss / slope if slope > 0.0 and math.isfinite(slope) else math.nan
         if below is not None and above is not None:
@@ -692,7 +724,16 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
     # two liquids can form, with the phases' own stability tested each time.
     for _ in range(3):
         evaluate = _equilibrium_evaluator(kernel, pressure, za, kind, where, known, multiphase, start)
-        t, eq = _search_temperature(evaluate, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what)
+        try:
+            t, eq = _search_temperature(evaluate, target, guess, T_SEARCH_LOW, T_SEARCH_HIGH, tolerance, where, what)
+        except _TemperatureJump as jump:
+            # A binary's H (or S) jumps at the one temperature where it has three
+            # phases: a target inside the jump is met there by the phase amounts.
+            stream = _binary_three_phase_at_target(model, kernel, pressure, target, z_full, za, active, kind,
+                                                   tolerance, where, jump) if kernel.size == 2 else None
+            if stream is None:
+                raise
+            return stream
         checked = _third_phase(kernel, eq, where)
         if checked is eq:
             break
@@ -700,6 +741,95 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
         # the multiphase equilibrium at every temperature.
         multiphase, start, guess, known = True, checked.multi, t, {}
     return _verified_target(_stream(model, t, pressure, z_full, active, checked), target, kind, tolerance, where)
+
+
+def _phases_of(eq) -> list[tuple[np.ndarray, str]]:
+    """(composition, volume root) of each phase of an equilibrium."""
+    if eq is None:
+        return []
+    if eq.split is not None:
+        result = eq.split
+        return [(result.y, "liquid" if result.props_y.liquid_like else "vapor"),
+                (result.x, "liquid" if result.props_x.liquid_like else "vapor")]
+    rows = list(eq.multi.compositions) if eq.multi is not None else [eq.z]
+    return [(row, "liquid" if eq.state.ln_phi(row)[2] else "vapor") for row in rows]
+
+
+def _binary_three_phase_at_target(model, kernel, pressure, target, z_full, za, active, kind, tolerance, where,
+                                  jump: _TemperatureJump) -> StreamState | None:
+    """The state of a binary at its three-phase temperature T* (at this
+    pressure) whose phase amounts carry the H or S target, where the
+    temperature search found the target inside the jump at T*: T* and the
+    phases by Newton's method on equal fugacities (``binary_three_phase``)
+    from the phases just below and above the jump, the amounts from the
+    component balances and the target (three linear equations). Kept only if
+    every amount lies in [0, 1], the split passes the multiphase
+    verification (fugacities, mass balance), no further phase lowers the
+    Gibbs energy (tangent-plane test from each phase, and seeded from the
+    feed) and the stream meets the target; None otherwise."""
+    candidates = _phases_of(jump.below) + _phases_of(jump.above)
+    # Phases the two sides share (the one present on both sides of T*) come
+    # twice; every choice of three distinct ones is tried.
+    distinct = []
+    for row, root in candidates:
+        if not any(root == r and float(np.abs(np.log(row) - np.log(other)).max()) < MULTI_MERGE
+                   for other, r in distinct):
+            distinct.append((row, root))
+    if len(distinct) < 3:
+        return None
+    for chosen in itertools.combinations(distinct, 3):
+        found = binary_three_phase(kernel, pressure, jump.temperature, [row for row, _ in chosen],
+                                   tuple(root for _, root in chosen))
+        if found is None:
+            continue
+        stream = _three_phase_stream(model, kernel, pressure, target, z_full, za, active, kind, tolerance, where,
+                                     found)
+        if stream is not None:
+            return stream
+    return None
+
+
+def _three_phase_stream(model, kernel, pressure, target, z_full, za, active, kind, tolerance, where,
+                        found: BinaryThreePhase) -> StreamState | None:
+    """The verified stream of the three phases ``found`` whose amounts meet
+    the H (J/mol) or S (J/(mol K)) target; None where no such state passes."""
+    t, rows = found.temperature, found.compositions
+    logs = np.log(rows)
+    for k, l in itertools.combinations(range(3), 2):
+        if found.roots[k] == found.roots[l] and float(np.abs(logs[k] - logs[l]).max()) < MULTI_MERGE:
+            return None  # two of the three have become one phase: no three-phase state
+    state = kernel.at(t, pressure)
+    values = [_phase_value(state, row, root, kind)[0] for row, root in zip(rows, found.roots)]
+    # Component balances (the two of a binary also give sum of amounts = 1) and the target.
+    matrix = np.vstack([rows.T, values])
+    try:
+        amounts = np.linalg.solve(matrix, np.array([za[0], za[1], target]))
+    except np.linalg.LinAlgError:
+        return None
+    if not (np.all(np.isfinite(amounts)) and np.all(amounts >= 0.0) and np.all(amounts <= 1.0)):
+        return None
+    keep = amounts > 0.0
+    # Fresh fugacities on each phase's own lowest-Gibbs root, for the verification.
+    ln_f = np.array([np.log(row) + state.ln_phi(row)[0] for row in rows])
+    error = float(np.max(ln_f.max(axis=0) - ln_f.min(axis=0)))
+    multi = MultiSplit(amounts[keep], rows[keep], error, 0)
+    try:
+        eq = _from_multi(state, za, multi, where)
+    except FlashError:
+        return None
+    k_wilson = wilson_k(kernel.tc, kernel.pc, kernel.omega, t, pressure)
+    try:
+        tests = [stability_test(state, row, k_wilson) for row in rows]
+        tests.append(stability_test(state, rows[0], k_wilson, seed=za))
+    except StabilityError:
+        return None
+    if not all(test.stable for test in tests):
+        return None
+    stream = _stream(model, t, pressure, z_full, active, eq)
+    try:
+        return _verified_target(stream, target, kind, tolerance, where)
+    except FlashError:
+        return None
 
 
 def _two_phase_at_target(kernel, state, za, kind, target, tolerance, k_start, where):
@@ -753,7 +883,8 @@ def _equilibrium_evaluator(kernel, pressure, za, kind, where, known, multiphase:
         if eq.multi is not None:
             last_multi[0] = eq.multi
             value = _multi_value(eq, kind)
-            upper = _third_phase(kernel, _equilibrium(kernel, t + step, pressure, za, where), where, eq.multi)
+            upper = _third_phase(kernel, _equilibrium(kernel, t + step, pressure, za, where), where, eq.multi,
+                                 test_warm=False)
             upper_value = _multi_value(upper, kind) if upper.multi is not None else _equilibrium_value(upper, kind)[0]
             return value, (upper_value - value) / step, eq
         value, slope, dlnk_dt, dbeta_dt = _equilibrium_value(eq, kind)

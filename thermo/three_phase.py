@@ -12,6 +12,10 @@ x_ik = z_i / (phi_ik E_i). Minimising Q by Newton's method (dropping a phase
 whose amount would go negative), then updating phi_ik from the new
 compositions, is successive substitution; at its fixed point every
 component's fugacity x_ik phi_ik P is the same in every phase present.
+
+A binary has three phases at fixed P at one temperature only (the phase
+rule leaves it no freedom): ``binary_three_phase`` finds that temperature
+and the three compositions together by Newton's method.
 """
 
 from __future__ import annotations
@@ -22,7 +26,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .flash_support import solve
-from .fugacity import CubicAtTP
+from .fugacity import CubicAtTP, CubicKernel
 
 CONVERGED = 1e-11  # max change of ln phi between substitution steps
 SUBSTITUTION_STEPS = 500
@@ -163,3 +167,84 @@ def multiphase_split(state: CubicAtTP, z: np.ndarray, starts: list[np.ndarray]) 
     if not math.isfinite(error):
         return None
     return MultiSplit(amounts, rows, error, iteration)
+
+
+# --- a binary's three phases at fixed pressure ------------------------------------
+BINARY_NEWTON_STEPS = 30
+BINARY_CONVERGED = 1e-11  # max |residual| in ln f at which the Newton solve stops (verified to 1e-8 after)
+BINARY_MAX_T_STEP = 0.05  # at most this fraction of T in one Newton step
+BINARY_MAX_U_STEP = 2.0  # and at most this much in ln(x_0 / x_1)
+
+
+@dataclass(frozen=True)
+class BinaryThreePhase:
+    """The three phases of a binary at fixed P: ``temperature`` (K, the one
+    temperature at which they coexist), ``compositions`` (rows of mole
+    fractions) and the volume ``roots`` ("vapor" or "liquid") each was
+    solved on."""
+
+    temperature: float
+    compositions: np.ndarray
+    roots: tuple[str, ...]
+
+
+def binary_three_phase(kernel: CubicKernel, pressure: float, temperature: float, starts: list[np.ndarray],
+                       roots: tuple[str, ...]) -> BinaryThreePhase | None:
+    """The temperature (K) at pressure (Pa) at which three phases of a binary
+    coexist, and their compositions: Newton's method on the four equations
+    ln f_i(phase 0) = ln f_i(phase k), k = 1, 2, in T and the three phases'
+    u = ln(x_0 / x_1) (a phase nearly pure in either component keeps its
+    minor mole fraction to full precision), each phase held on its volume
+    root (``roots``), from ``temperature`` and the ``starts`` (three rows).
+    By the phase rule (2 components, 3 phases, P fixed) the solution is a
+    point. None if Newton does not converge."""
+    t = float(temperature)
+    u = np.array([math.log(float(row[0]) / float(row[1])) for row in starts])
+    sign = np.array([1.0, -1.0])
+    for _ in range(BINARY_NEWTON_STEPS):
+        state = kernel.at(t, pressure)
+        rows = _logit_rows(u)
+        ln_f, d_du, d_dt = [], [], []
+        for k in range(3):
+            row = rows[k]
+            props = state.derivatives(row, roots[k])
+            ln_f.append(np.log(row) + props.ln_phi)
+            # dx = (1, -1) x_0 x_1 du; at one mole d ln phi_i = sum_j (n d ln phi_i/d n_j) dx_j
+            weight = row[0] * row[1]
+            d_du.append(np.array([row[1], -row[0]]) + weight * (props.dlnphi_dn @ sign))
+            d_dt.append(props.dlnphi_dT)
+        residual = np.concatenate([ln_f[0] - ln_f[1], ln_f[0] - ln_f[2]])
+        if not np.all(np.isfinite(residual)):
+            return None
+        if float(np.abs(residual).max()) < BINARY_CONVERGED:
+            return BinaryThreePhase(t, rows, tuple(roots))
+        jacobian = np.zeros((4, 4))
+        jacobian[0:2, 0] = d_dt[0] - d_dt[1]
+        jacobian[2:4, 0] = d_dt[0] - d_dt[2]
+        jacobian[0:2, 1] = d_du[0]
+        jacobian[2:4, 1] = d_du[0]
+        jacobian[0:2, 2] = -d_du[1]
+        jacobian[2:4, 3] = -d_du[2]
+        try:
+            step = solve(jacobian, -residual)
+        except np.linalg.LinAlgError:
+            return None  # two of the phases have become one (or the roots have met)
+        if not np.all(np.isfinite(step)):
+            return None
+        # Short steps in T and u: Newton from a start this close needs no more.
+        scale = 1.0
+        if abs(step[0]) > BINARY_MAX_T_STEP * t:
+            scale = BINARY_MAX_T_STEP * t / abs(step[0])
+        largest = float(np.abs(step[1:]).max())
+        if largest > BINARY_MAX_U_STEP:
+            scale = min(scale, BINARY_MAX_U_STEP / largest)
+        t += scale * step[0]
+        u = u + scale * step[1:]
+    return None
+
+
+def _logit_rows(u: np.ndarray) -> np.ndarray:
+    """Rows (x_0, x_1) with ln(x_0 / x_1) = u, each to full relative precision."""
+    first = 1.0 / (1.0 + np.exp(-u))
+    second = 1.0 / (1.0 + np.exp(u))
+    return np.column_stack([first, second])
