@@ -59,8 +59,10 @@ class PhaseEnvelope:
 def envelope_feed(result, connections: Mapping[str, tuple[Sequence[str], Sequence[str]]] | None = None
                   ) -> tuple[np.ndarray, str] | None:
     """The composition the chart's envelope is drawn for and a phrase saying
-    whose it is: the sheet's one composition when every stream has it, else
-    the inlet of the first unit (in the sheet's order). None without streams."""
+    whose it is: the sheet's one composition when every stream has it; else
+    the one most streams carry (a blend and the streams after its mixer),
+    when one does; else the inlet of the first unit (in the sheet's order).
+    None without streams."""
     streams = result.streams
     if not streams:
         return None
@@ -68,6 +70,18 @@ def envelope_feed(result, connections: Mapping[str, tuple[Sequence[str], Sequenc
     first = compositions[0]
     if all(c.shape == first.shape and float(np.abs(c - first).max()) < SAME_COMPOSITION for c in compositions):
         return first, "the sheet's composition"
+    groups: list[tuple[np.ndarray, list[str]]] = []
+    for name, composition in zip(streams, compositions):
+        for shared, names in groups:
+            if shared.shape == composition.shape and float(np.abs(shared - composition).max()) < SAME_COMPOSITION:
+                names.append(name)
+                break
+        else:
+            groups.append((composition, [name]))
+    sizes = sorted((len(names) for _, names in groups), reverse=True)
+    if sizes[0] > 1 and (len(sizes) == 1 or sizes[0] > sizes[1]):
+        composition, names = next(group for group in groups if len(group[1]) == sizes[0])
+        return composition, f"{names[0]} (and {len(names) - 1} more of that composition)"
     for unit_name in result.units:
         inlets = (connections or {}).get(unit_name, ((), ()))[0]
         for inlet in inlets:

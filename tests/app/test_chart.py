@@ -218,6 +218,18 @@ def test_envelope_of_a_mixed_sheet_is_the_first_units_inlet():
     assert list(z) == [0.9, 0.1] and source == "feed (inlet of valve-1)"
 
 
+def test_envelope_of_a_blend_is_the_composition_most_streams_carry():
+    from dataclasses import replace
+
+    from tui.envelope import envelope_feed
+
+    result = _result((0.9, 0.1), (0.8, 0.2))
+    after = replace(result.streams["product"], name="burner-gas")
+    result = replace(result, streams={**result.streams, "burner-gas": after})
+    z, source = envelope_feed(result, {"valve-1": (("feed",), ("product",))})
+    assert list(z) == [0.8, 0.2] and source == "product (and 1 more of that composition)"
+
+
 def test_ideal_gas_has_no_envelope_and_says_why():
     import dataclasses
 
