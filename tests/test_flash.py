@@ -492,6 +492,41 @@ def test_near_critical_split_is_noted():
     assert far.phase == "two-phase" and NEAR_CRITICAL not in far.notes
 
 
+# Valve outlets near a mixture critical point whose stability trials once
+# stalled ("trial phase did not converge"): the trial crept toward the feed
+# where tm's Hessian in alpha = 2 sqrt(W) has a negative curvature, Newton's
+# step climbed and halving it left the trial where it was.
+# (components, feed, model, P Pa, H J/mol, the temperature the answer has, K)
+STALLED_TRIALS = [
+    (["ethanol", "propane"], [0.443831, 0.556169], "soave-redlich-kwong", 6411343.2, -39.627311, 451.65764),
+    (["neopentane", "toluene", "isobutene"], [0.455335, 0.191258, 0.353407], "peng-robinson", 4320051.8,
+     13084.938, 473.01575),
+]
+
+
+@pytest.mark.parametrize("names, fractions, model_name, p, h, t_expected", STALLED_TRIALS)
+def test_trials_near_the_spinodal_finish(names, fractions, model_name, p, h, t_expected):
+    model = make_model(model_name, make_mixture(names))
+    z = np.array(fractions) / sum(fractions)
+    state = flash_ph(model, p, h, z)
+    assert state.enthalpy == pytest.approx(h, abs=1e-5)
+    assert state.temperature == pytest.approx(t_expected, abs=1e-4)  # the temperature the one-phase search met
+    assert len(state.phases) == 1 and NEAR_CRITICAL in state.notes  # the trials crept: near-critical
+    # One phase is right: random trial compositions on both roots (the
+    # engine's departures, not the flash kernel) find no tangent-plane
+    # distance below zero (Michelsen 1982).
+    t = state.temperature
+    d = np.log(z) + residual(model, t, p, z).ln_phi
+    rng = np.random.default_rng(7)
+    lowest = np.inf
+    for _ in range(1500):
+        w = np.maximum(rng.dirichlet(np.full(len(z), 0.5)), 1e-12)
+        w = w / w.sum()
+        for root in ("liquid", "vapor"):
+            lowest = min(lowest, float(w @ (np.log(w) + residual(model, t, p, w, root).ln_phi - d)))
+    assert lowest > -1e-9
+
+
 # --- errors name the state ---------------------------------------------------------------------
 def test_errors_name_the_state_and_the_failure():
     model = make_model("peng-robinson", make_mixture(["methane"]))

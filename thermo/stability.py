@@ -53,6 +53,7 @@ LN_W_LIMIT = 200.0  # ln W is held above -this, so that no trial mole number und
 LN_W_HIGH = 50.0  # and below this: a trial of e^50 moles per mole of feed has run away
 MAX_EIGEN = 0.95  # dominant-eigenvalue extrapolation only where substitution is not creeping
 MAX_JUMP = 5.0  # and by at most this much in any ln W
+MIN_CURVATURE = 1e-3  # the Newton finish's curvatures are taken as at least this (see _descent_step)
 
 
 @dataclass(frozen=True)
@@ -155,10 +156,7 @@ def _newton_trial(state, z, ln_z, d, ln_w, kind, done):
         root_w = np.sqrt(w_moles)
         gradient = root_w * residual
         hessian = np.eye(len(z)) + np.outer(root_w, root_w) * props.dlnphi_dn / total
-        try:
-            step = solve(hessian, -gradient)
-        except np.linalg.LinAlgError:
-            step = -gradient
+        step = _descent_step(hessian, gradient)
         alpha = 2.0 * root_w
         for _ in range(20):
             trial_alpha = alpha + step
@@ -171,6 +169,22 @@ def _newton_trial(state, z, ln_z, d, ln_w, kind, done):
             step *= 0.5
         w_moles = trial_w
     raise StabilityError(f"{kind} trial phase did not converge in {done + NEWTON_STEPS} iterations")
+
+
+def _descent_step(hessian: np.ndarray, gradient: np.ndarray) -> np.ndarray:
+    """Newton's step on tm(alpha), or where the Hessian is not positive
+    definite (a trial near the spinodal, close to a near-critical feed:
+    Newton's step then climbs, and halving it stalls the trial) the step
+    with each curvature taken by its magnitude, floored at MIN_CURVATURE,
+    which descends along every direction, the one of negative curvature too."""
+    curvatures, vectors = np.linalg.eigh(hessian)
+    if float(curvatures.min()) > MIN_CURVATURE:
+        try:
+            return solve(hessian, -gradient)
+        except np.linalg.LinAlgError:
+            pass
+    along = vectors.T @ gradient
+    return -(vectors @ (along / np.maximum(np.abs(curvatures), MIN_CURVATURE)))
 
 
 def _second_liquid_candidates(state: CubicAtTP, z: np.ndarray, trials) -> list[int]:
