@@ -435,16 +435,29 @@ def test_water_and_hexane_stay_two_liquids_until_their_vapor_pressures_add_up():
     assert above.vapor_fraction > 0.5
 
 
-def test_vapor_fraction_that_no_state_has_is_refused_clearly():
+def test_vapor_fraction_inside_a_binary_jump_at_fixed_pressure_is_three_phase():
     # Water and n-hexane: at fixed pressure a vapor and both liquids coexist at
-    # one temperature only, where the vapor fraction jumps from 0 to about 1/3.
+    # one temperature only, where the vapor fraction jumps from 0 to about 1/3;
+    # a fraction inside the jump is the three phases at that temperature
+    # (tests/test_flash_three_phase_binary.py checks the state in full).
     model = make_model("peng-robinson", make_mixture(["water", "n-hexane"]))
-    with pytest.raises(FlashError) as caught:
-        flash_pv(model, 5e5, 0.2, np.array([0.5, 0.5]))
-    message = str(caught.value)
-    assert "jumps from 0 to" in message and "Specify the enthalpy" in message and "P = 500000 Pa" in message
+    state = flash_pv(model, 5e5, 0.2, np.array([0.5, 0.5]))
+    assert len(state.phases) == 3 and "three-phase" in state.notes
+    assert state.vapor_fraction == pytest.approx(0.2, abs=1e-10)
     liquids = flash_pv(model, 5e5, 0.0, np.array([0.5, 0.5]))
     assert liquids.vapor_fraction == 0.0 and len(liquids.phases) == 2
+    assert liquids.temperature == pytest.approx(state.temperature, abs=1e-6)
+
+
+def test_vapor_fraction_that_no_state_has_is_refused_clearly():
+    # At fixed temperature the same binary's three phases coexist at one
+    # pressure, where the vapor fraction jumps from 0 to about 2/3: that jump
+    # is not resolved (flash_tv), and the refusal says what to give instead.
+    model = make_model("peng-robinson", make_mixture(["water", "n-hexane"]))
+    with pytest.raises(FlashError) as caught:
+        flash_tv(model, 350.0, 0.2, np.array([0.5, 0.5]))
+    message = str(caught.value)
+    assert "jumps from 0 to" in message and "Specify the enthalpy" in message and "T = 350 K" in message
 
 
 # --- models without a liquid -------------------------------------------------------------

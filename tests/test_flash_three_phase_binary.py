@@ -153,3 +153,40 @@ def test_a_ternary_once_seen_jumping_meets_its_target():
     assert state.enthalpy == pytest.approx(-7935.179, abs=1e-5)
     if len(state.phases) > 1:
         assert ln_fugacity_mismatch(model, state) < 1e-8
+
+
+# (components, feed, model, pressure Pa): binaries whose vapor fraction jumps at T*
+FRACTION_JUMPS = [
+    (["water", "n-hexane"], [0.5, 0.5], "PR", 101325.0),
+    (["water", "carbon-dioxide"], [0.34, 0.66], "PR", 1456704.2),
+]
+
+
+@pytest.mark.parametrize("names, fractions, model_name, pressure", FRACTION_JUMPS)
+@pytest.mark.parametrize("vapor_fraction", [0.05, 0.3])
+def test_vapor_fraction_inside_the_jump_is_the_three_phase_state(names, fractions, model_name, pressure,
+                                                                 vapor_fraction):
+    # At fixed P a binary's vapor fraction jumps at T* from 0 (two liquids) to
+    # that of the vapor beside one liquid; a fraction in between is the three
+    # phases at T*, the same state the PH flash reaches inside its H jump, with
+    # the vapor's amount equal to the fraction asked.
+    model = make_model(MODELS[model_name], make_mixture(names))
+    z = np.array(fractions)
+    state = flash_pv(model, pressure, vapor_fraction, z)
+    check_identities(model, state, z)
+    assert state.pressure == pressure
+    assert state.vapor_fraction == pytest.approx(vapor_fraction, abs=1e-10)
+    vapor = next(p for p in state.phases if p.label == "vapor")
+    assert vapor.amount == pytest.approx(vapor_fraction, abs=1e-10)
+    # T* of the PH route: a target midway in the jump seen by TP flashes either side
+    below = flash_tp(model, state.temperature - 0.01, pressure, z)
+    above = flash_tp(model, state.temperature + 0.01, pressure, z)
+    assert below.vapor_fraction == 0.0 and above.vapor_fraction > vapor_fraction
+    by_h = flash_ph(model, pressure, 0.5 * (below.enthalpy + above.enthalpy), z)
+    assert len(by_h.phases) == 3
+    assert state.temperature == pytest.approx(by_h.temperature, rel=1e-12)
+    assert lowest_tangent_plane_distance(model, state) > -1e-9
+    # the PH flash at this state's own enthalpy returns it (same T*, same amounts)
+    again = flash_ph(model, pressure, state.enthalpy, z)
+    assert again.temperature == pytest.approx(state.temperature, rel=1e-12)
+    assert again.vapor_fraction == pytest.approx(vapor_fraction, abs=1e-8)

@@ -34,8 +34,11 @@ point; where its liquid proves unstable (a second liquid, as water beside
 hydrocarbons, would form), or the two-phase search fails for a feed that can
 form two liquids, it finds the temperature (or pressure) at which the full
 equilibrium, every phase included, has that vapor fraction. Where the vapor
-fraction jumps across the value asked (a vapor and two liquids at a single
-temperature, as in a binary), FlashError says so and what to specify instead.
+fraction of a binary at fixed pressure jumps across the value asked (its
+vapor and two liquids coexist at one temperature T*), the state is the three
+phases at T*, the vapor's amount the fraction asked; any other jump (at
+fixed temperature, or with more components) is refused with FlashError
+saying so and what to specify instead.
 Not handled: bubble and dew points (bubble_temperature and the rest,
 envelope) look for two phases only and refuse where a second liquid would
 form; four or more phases are not sought.
@@ -759,15 +762,38 @@ def _binary_three_phase_at_target(model, kernel, pressure, target, z_full, za, a
                                   jump: _TemperatureJump) -> StreamState | None:
     """The state of a binary at its three-phase temperature T* (at this
     pressure) whose phase amounts carry the H or S target, where the
-    temperature search found the target inside the jump at T*: T* and the
-    phases by Newton's method on equal fugacities (``binary_three_phase``)
-    from the phases just below and above the jump, the amounts from the
-    component balances and the target (three linear equations). Kept only if
-    every amount lies in [0, 1], the split passes the multiphase
-    verification (fugacities, mass balance), no further phase lowers the
-    Gibbs energy (tangent-plane test from each phase, and seeded from the
-    feed) and the stream meets the target; None otherwise."""
-    candidates = _phases_of(jump.below) + _phases_of(jump.above)
+    temperature search found the target inside the jump at T*: the amounts
+    from the component balances and the target (``_binary_three_phase_state``);
+    None where no such state passes."""
+
+    def closing(state: CubicAtTP, found: BinaryThreePhase):
+        return [_phase_value(state, row, root, kind)[0] for row, root in zip(found.compositions, found.roots)], target
+
+    def accept(stream: StreamState) -> bool:
+        try:
+            _verified_target(stream, target, kind, tolerance, where)
+        except FlashError:
+            return False
+        return True
+
+    return _binary_three_phase_state(model, kernel, pressure, z_full, za, active, where, jump.temperature,
+                                     jump.below, jump.above, closing, accept)
+
+
+def _binary_three_phase_state(model, kernel, pressure, z_full, za, active, where, temperature, below, above,
+                              closing, accept) -> StreamState | None:
+    """A binary's three-phase state at pressure (Pa), where a search at fixed
+    P found its H, S or vapor fraction jumping near ``temperature`` (K)
+    between the equilibria ``below`` and ``above``: T* and the three phases
+    by Newton's method on equal fugacities (``binary_three_phase``) from the
+    phases either side, the amounts from the two component balances and one
+    more linear equation, ``closing(state, found)`` -> (coefficient of each
+    phase's amount, right-hand side). Kept only if every amount lies in
+    [0, 1], the split passes the multiphase verification (fugacities, mass
+    balance), no further phase lowers the Gibbs energy (tangent-plane test
+    from each phase, and seeded from the feed) and ``accept(stream)``;
+    None otherwise."""
+    candidates = _phases_of(below) + _phases_of(above)
     # Phases the two sides share (the one present on both sides of T*) come
     # twice; every choice of three distinct ones is tried.
     distinct = []
@@ -778,32 +804,35 @@ def _binary_three_phase_at_target(model, kernel, pressure, target, z_full, za, a
     if len(distinct) < 3:
         return None
     for chosen in itertools.combinations(distinct, 3):
-        found = binary_three_phase(kernel, pressure, jump.temperature, [row for row, _ in chosen],
+        found = binary_three_phase(kernel, pressure, temperature, [row for row, _ in chosen],
                                    tuple(root for _, root in chosen))
         if found is None:
             continue
-        stream = _three_phase_stream(model, kernel, pressure, target, z_full, za, active, kind, tolerance, where,
-                                     found)
+        stream = _three_phase_stream(model, kernel, pressure, z_full, za, active, where, found, closing, accept)
         if stream is not None:
             return stream
     return None
 
 
-def _three_phase_stream(model, kernel, pressure, target, z_full, za, active, kind, tolerance, where,
-                        found: BinaryThreePhase) -> StreamState | None:
+def _three_phase_stream(model, kernel, pressure, z_full, za, active, where, found: BinaryThreePhase, closing,
+                        accept) -> StreamState | None:
     """The verified stream of the three phases ``found`` whose amounts meet
-    the H (J/mol) or S (J/(mol K)) target; None where no such state passes."""
+    the component balances and the equation ``closing`` gives; None where
+    no such state passes (see ``_binary_three_phase_state``)."""
     t, rows = found.temperature, found.compositions
     logs = np.log(rows)
     for k, l in itertools.combinations(range(3), 2):
         if found.roots[k] == found.roots[l] and float(np.abs(logs[k] - logs[l]).max()) < MULTI_MERGE:
             return None  # two of the three have become one phase: no three-phase state
     state = kernel.at(t, pressure)
-    values = [_phase_value(state, row, root, kind)[0] for row, root in zip(rows, found.roots)]
-    # Component balances (the two of a binary also give sum of amounts = 1) and the target.
-    matrix = np.vstack([rows.T, values])
+    closed = closing(state, found)
+    if closed is None:
+        return None
+    coefficients, rhs = closed
+    # Component balances (the two of a binary also give sum of amounts = 1) and the closing equation.
+    matrix = np.vstack([rows.T, coefficients])
     try:
-        amounts = np.linalg.solve(matrix, np.array([za[0], za[1], target]))
+        amounts = np.linalg.solve(matrix, np.array([za[0], za[1], rhs]))
     except np.linalg.LinAlgError:
         return None
     if not (np.all(np.isfinite(amounts)) and np.all(amounts >= 0.0) and np.all(amounts <= 1.0)):
@@ -826,10 +855,7 @@ def _three_phase_stream(model, kernel, pressure, target, z_full, za, active, kin
     if not all(test.stable for test in tests):
         return None
     stream = _stream(model, t, pressure, z_full, active, eq)
-    try:
-        return _verified_target(stream, target, kind, tolerance, where)
-    except FlashError:
-        return None
+    return stream if accept(stream) else None
 
 
 def _two_phase_at_target(kernel, state, za, kind, target, tolerance, k_start, where):
@@ -1073,6 +1099,18 @@ FRACTION_SCAN_STEP = 1.02  # ratio between the temperatures (or pressures) of th
 FRACTION_SCAN_STEPS = 120
 
 
+class _FractionJump(FlashError):
+    """The vapor fraction of the full equilibrium jumps across the target at
+    ``value`` (K at fixed P, Pa at fixed T); the equilibria either side of
+    the jump (``lower`` and ``upper`` in the free variable) travel along."""
+
+    def __init__(self, message: str, value: float, lower: _Equilibrium, upper: _Equilibrium):
+        super().__init__(message)
+        self.value = value
+        self.lower = lower
+        self.upper = upper
+
+
 def _multiphase_at_fraction(model, kernel: CubicKernel, za: np.ndarray, beta: float, fixed: str, value: float,
                             start: float, where) -> tuple[float, float, _Equilibrium]:
     """(T K, P Pa, equilibrium) where the equilibrium of feed za, with all
@@ -1173,11 +1211,12 @@ def _multiphase_at_fraction(model, kernel: CubicKernel, za: np.ndarray, beta: fl
     if abs(gm) > FRACTION_TOLERANCE and beta not in (0.0, 1.0):
         low_fraction = _vapor_amount(eqa if rising else eqb)
         high_fraction = _vapor_amount(eqb if rising else eqa)
-        raise FlashError(
+        raise _FractionJump(
             f"{where}: the vapor fraction jumps from {low_fraction:.4g} to {high_fraction:.4g} at "
             f"{name} {middle:.8g} {unit}, where a vapor and two liquids coexist at "
             f"a single {name}; a vapor fraction in between fixes no state there. Specify the "
-            "enthalpy instead (a heater's duty, or a feed's temperature and pressure)"
+            "enthalpy instead (a heater's duty, or a feed's temperature and pressure)",
+            middle, eqa, eqb,
         )
     return (middle, value, eqm) if fixed == "P" else (value, middle, eqm)
 
@@ -1198,11 +1237,41 @@ def _fraction_by_multiphase(model, z: np.ndarray, active, beta: float, fixed: st
         start = None
     else:
         start = refused.point.temperature if fixed == "P" else refused.point.pressure
-    t, p, eq = _multiphase_at_fraction(model, kernel, za, beta, fixed, value, start, where)
+    try:
+        t, p, eq = _multiphase_at_fraction(model, kernel, za, beta, fixed, value, start, where)
+    except _FractionJump as jump:
+        # A binary's vapor fraction jumps at the one temperature T* (at this
+        # pressure) where it has three phases: a fraction inside the jump is
+        # met there by the phase amounts.
+        stream = _binary_three_phase_at_fraction(model, kernel, value, beta, z, za, active, where,
+                                                 jump) if fixed == "P" and kernel.size == 2 else None
+        if stream is None:
+            raise
+        return stream
     stream = _stream(model, t, p, z, active, eq)
     if not abs(stream.vapor_fraction - beta) <= 1e-8:
         raise FlashError(f"{where}: the state found has vapor fraction {stream.vapor_fraction:.10g}, not {beta:g}")
     return stream
+
+
+def _binary_three_phase_at_fraction(model, kernel, pressure, beta, z_full, za, active, where,
+                                    jump: _FractionJump) -> StreamState | None:
+    """The state of a binary at its three-phase temperature T* (at pressure,
+    Pa) with vapor fraction ``beta``, where the vapor fraction jumps across
+    it at T*: the amounts from the component balances and the vapor's
+    amount (``_binary_three_phase_state``), the same T* and phases the PH
+    and PS flashes reach inside their jump; None where no such state passes."""
+
+    def closing(state: CubicAtTP, found: BinaryThreePhase):
+        if found.roots.count("vapor") != 1:
+            return None  # no one vapor among the three: the fraction cannot be placed
+        return [1.0 if root == "vapor" else 0.0 for root in found.roots], beta
+
+    def accept(stream: StreamState) -> bool:
+        return abs(stream.vapor_fraction - beta) <= FRACTION_TOLERANCE
+
+    return _binary_three_phase_state(model, kernel, pressure, z_full, za, active, where, jump.value,
+                                     jump.lower, jump.upper, closing, accept)
 
 
 def bubble_pressure(model, temperature: float, x: np.ndarray) -> float:
