@@ -340,15 +340,26 @@ def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit 
                     # beside water just below the three-phase temperature) is reached only by
                     # the vapor's own liquid-like trial; from the water it falls onto the vapor.
                     stability = stability_test(state, phases[0], k_wilson, vapor_trial=False, extra_trials=False)
+            if stability.stable and eq.multi is not None:
+                # Each phase of a multiphase split seeds trials of its own: near a
+                # four-phase temperature of a ternary (water, oxygen and carbonyl
+                # sulfide at 46 bar) an oxygen-rich phase carried on from above
+                # outlasted its range, and only the water's trials found the liquid
+                # that replaces it.
+                for phase in phases[:-1]:
+                    stability = stability_test(state, phase, k_wilson, extra_trials=False)
+                    if not stability.stable:
+                        break
         except StabilityError:
             return eq
         if stability.stable:
             return eq
         trial = next(t.composition for t in stability.trials if t.outcome == "unstable")
-        if kernel.size == 2:
-            # Three phases of a binary coexist at one temperature only: the stable
-            # state is the trial paired with one of the phases.
-            found = _lowest_pair(state, eq.z, phases, trial)
+        if len(phases) + 1 > kernel.size:
+            # More phases than components coexist at one temperature only (a
+            # binary's three, a ternary's four): the stable state is the trial
+            # with all but one of the phases.
+            found = _lowest_set(state, eq.z, phases, trial, kernel.size - 1)
         else:
             found = multiphase_split(state, eq.z, phases + [trial])
         if found is None:
@@ -361,13 +372,14 @@ def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit 
     return eq
 
 
-def _lowest_pair(state: CubicAtTP, z: np.ndarray, phases, trial) -> MultiSplit | None:
+def _lowest_set(state: CubicAtTP, z: np.ndarray, phases, trial, keep: int) -> MultiSplit | None:
     """The split of lowest Gibbs energy that the multiphase method reaches
-    from the trial phase paired with each of ``phases``; None if none does."""
+    from the trial phase with each choice of ``keep`` of ``phases``; None if
+    none does."""
     best, best_g = None, math.inf
-    for phase in phases:
+    for chosen in itertools.combinations(phases, keep):
         try:
-            found = multiphase_split(state, z, [phase, trial])
+            found = multiphase_split(state, z, list(chosen) + [trial])
         except (ArithmeticError, np.linalg.LinAlgError):
             found = None
         if found is None or len(found.amounts) < 2:
