@@ -15,7 +15,9 @@ its two-phase region the temperature is the saturation temperature and the
 vapor fraction carries the enthalpy or entropy; for a binary whose target
 falls in the jump at its three-phase temperature (a vapor and two liquids
 coexist at one temperature per pressure), the state is the three phases at
-that temperature and their amounts carry it.
+that temperature and their amounts carry it; likewise N + 1 phases of N
+components (a ternary's four), which the phase rule also fixes at one
+temperature.
 
 The ideal-gas and virial models have no liquid root: their streams are
 single-phase vapor, and saturation requests on them raise FlashError.
@@ -41,7 +43,7 @@ fixed temperature, or with more components) is refused with FlashError
 saying so and what to specify instead.
 Not handled: bubble and dew points (bubble_temperature and the rest,
 envelope) look for two phases only and refuse where a second liquid would
-form; four or more phases are not sought.
+form; four or more phases are not sought elsewhere.
 
 SI units: K, Pa, J/mol, J/(mol K); compositions are mole-fraction vectors
 over the model's mixture.
@@ -86,7 +88,7 @@ from .saturation import (
 from .stability import StabilityError, second_liquid_possible, stability_test
 from .state import LIQUID, VAPOR, StreamState
 from .three_phase import MERGE as MULTI_MERGE
-from .three_phase import BinaryThreePhase, MultiSplit, binary_three_phase, multiphase_split
+from .three_phase import BinaryThreePhase, MultiSplit, binary_three_phase, invariant_point, multiphase_split
 from .two_phase import (
     Split,
     SplitError,
@@ -744,8 +746,8 @@ def _mixture_p_spec(model, kernel, pressure, target, z_full, za, active, guess, 
         except _TemperatureJump as jump:
             # A binary's H (or S) jumps at the one temperature where it has three
             # phases: a target inside the jump is met there by the phase amounts.
-            stream = _binary_three_phase_at_target(model, kernel, pressure, target, z_full, za, active, kind,
-                                                   tolerance, where, jump) if kernel.size == 2 else None
+            stream = _invariant_state_at_target(model, kernel, pressure, target, z_full, za, active, kind,
+                                                   tolerance, where, jump)
             if stream is None:
                 raise
             return stream
@@ -770,12 +772,13 @@ def _phases_of(eq) -> list[tuple[np.ndarray, str]]:
     return [(row, "liquid" if eq.state.ln_phi(row)[2] else "vapor") for row in rows]
 
 
-def _binary_three_phase_at_target(model, kernel, pressure, target, z_full, za, active, kind, tolerance, where,
+def _invariant_state_at_target(model, kernel, pressure, target, z_full, za, active, kind, tolerance, where,
                                   jump: _TemperatureJump) -> StreamState | None:
-    """The state of a binary at its three-phase temperature T* (at this
-    pressure) whose phase amounts carry the H or S target, where the
+    """The state at the temperature T* (at this pressure) where N + 1 phases
+    of N components coexist (a binary's vapor and two liquids, a ternary's
+    four phases) whose phase amounts carry the H or S target, where the
     temperature search found the target inside the jump at T*: the amounts
-    from the component balances and the target (``_binary_three_phase_state``);
+    from the component balances and the target (``_invariant_state``);
     None where no such state passes."""
 
     def closing(state: CubicAtTP, found: BinaryThreePhase):
@@ -788,18 +791,19 @@ def _binary_three_phase_at_target(model, kernel, pressure, target, z_full, za, a
             return False
         return True
 
-    return _binary_three_phase_state(model, kernel, pressure, z_full, za, active, where, jump.temperature,
+    return _invariant_state(model, kernel, pressure, z_full, za, active, where, jump.temperature,
                                      jump.below, jump.above, closing, accept)
 
 
-def _binary_three_phase_state(model, kernel, pressure, z_full, za, active, where, temperature, below, above,
-                              closing, accept) -> StreamState | None:
-    """A binary's three-phase state at pressure (Pa), where a search at fixed
-    P found its H, S or vapor fraction jumping near ``temperature`` (K)
-    between the equilibria ``below`` and ``above``: T* and the three phases
-    by Newton's method on equal fugacities (``binary_three_phase``) from the
-    phases either side, the amounts from the two component balances and one
-    more linear equation, ``closing(state, found)`` -> (coefficient of each
+def _invariant_state(model, kernel, pressure, z_full, za, active, where, temperature, below, above,
+                     closing, accept) -> StreamState | None:
+    """The state of N + 1 phases of N components at pressure (Pa), which by
+    the phase rule coexist at one temperature T* only, where a search at
+    fixed P found the H, S or vapor fraction jumping near ``temperature``
+    (K) between the equilibria ``below`` and ``above``: T* and the phases by
+    Newton's method on equal fugacities (``binary_three_phase`` for a
+    binary, ``invariant_point`` otherwise) from the phases either side, the
+    amounts from the N component balances and one more linear equation, ``closing(state, found)`` -> (coefficient of each
     phase's amount, right-hand side). Kept only if every amount lies in
     [0, 1], the split passes the multiphase verification (fugacities, mass
     balance), no further phase lowers the Gibbs energy (tangent-plane test
@@ -813,11 +817,11 @@ def _binary_three_phase_state(model, kernel, pressure, z_full, za, active, where
         if not any(root == r and float(np.abs(np.log(row) - np.log(other)).max()) < MULTI_MERGE
                    for other, r in distinct):
             distinct.append((row, root))
-    if len(distinct) < 3:
+    if len(distinct) < kernel.size + 1:
         return None
-    for chosen in itertools.combinations(distinct, 3):
-        found = binary_three_phase(kernel, pressure, temperature, [row for row, _ in chosen],
-                                   tuple(root for _, root in chosen))
+    solver = binary_three_phase if kernel.size == 2 else invariant_point
+    for chosen in itertools.combinations(distinct, kernel.size + 1):
+        found = solver(kernel, pressure, temperature, [row for row, _ in chosen], tuple(root for _, root in chosen))
         if found is None:
             continue
         stream = _three_phase_stream(model, kernel, pressure, z_full, za, active, where, found, closing, accept)
@@ -828,23 +832,23 @@ def _binary_three_phase_state(model, kernel, pressure, z_full, za, active, where
 
 def _three_phase_stream(model, kernel, pressure, z_full, za, active, where, found: BinaryThreePhase, closing,
                         accept) -> StreamState | None:
-    """The verified stream of the three phases ``found`` whose amounts meet
+    """The verified stream of the N + 1 phases ``found`` whose amounts meet
     the component balances and the equation ``closing`` gives; None where
-    no such state passes (see ``_binary_three_phase_state``)."""
+    no such state passes (see ``_invariant_state``)."""
     t, rows = found.temperature, found.compositions
     logs = np.log(rows)
-    for k, l in itertools.combinations(range(3), 2):
+    for k, l in itertools.combinations(range(len(rows)), 2):
         if found.roots[k] == found.roots[l] and float(np.abs(logs[k] - logs[l]).max()) < MULTI_MERGE:
-            return None  # two of the three have become one phase: no three-phase state
+            return None  # two of the phases have become one: no such state
     state = kernel.at(t, pressure)
     closed = closing(state, found)
     if closed is None:
         return None
     coefficients, rhs = closed
-    # Component balances (the two of a binary also give sum of amounts = 1) and the closing equation.
+    # Component balances (which also give sum of amounts = 1) and the closing equation.
     matrix = np.vstack([rows.T, coefficients])
     try:
-        amounts = np.linalg.solve(matrix, np.array([za[0], za[1], rhs]))
+        amounts = np.linalg.solve(matrix, np.append(za, rhs))
     except np.linalg.LinAlgError:
         return None
     if not (np.all(np.isfinite(amounts)) and np.all(amounts >= 0.0) and np.all(amounts <= 1.0)):
@@ -1271,7 +1275,7 @@ def _binary_three_phase_at_fraction(model, kernel, pressure, beta, z_full, za, a
     """The state of a binary at its three-phase temperature T* (at pressure,
     Pa) with vapor fraction ``beta``, where the vapor fraction jumps across
     it at T*: the amounts from the component balances and the vapor's
-    amount (``_binary_three_phase_state``), the same T* and phases the PH
+    amount (``_invariant_state``), the same T* and phases the PH
     and PS flashes reach inside their jump; None where no such state passes."""
 
     def closing(state: CubicAtTP, found: BinaryThreePhase):
@@ -1282,7 +1286,7 @@ def _binary_three_phase_at_fraction(model, kernel, pressure, beta, z_full, za, a
     def accept(stream: StreamState) -> bool:
         return abs(stream.vapor_fraction - beta) <= FRACTION_TOLERANCE
 
-    return _binary_three_phase_state(model, kernel, pressure, z_full, za, active, where, jump.value,
+    return _invariant_state(model, kernel, pressure, z_full, za, active, where, jump.value,
                                      jump.lower, jump.upper, closing, accept)
 
 

@@ -378,3 +378,68 @@ def _logit_rows(u: np.ndarray) -> np.ndarray:
     first = 1.0 / (1.0 + np.exp(-u))
     second = 1.0 / (1.0 + np.exp(u))
     return np.column_stack([first, second])
+
+
+# --- N + 1 phases of N components at fixed pressure ---------------------------------
+def invariant_point(kernel: CubicKernel, pressure: float, temperature: float, starts: list[np.ndarray],
+                    roots: tuple[str, ...]) -> BinaryThreePhase | None:
+    """The temperature (K) at pressure (Pa) at which N + 1 phases of N
+    components coexist (a ternary's four: water, two liquids and a vapor of
+    oxygen and carbonyl sulfide), and their compositions: by the phase rule
+    a point, found as ``binary_three_phase`` finds a binary's, by Newton's
+    method on ln f_i(phase 0) = ln f_i(phase k), k = 1..N, in T and each
+    phase's u_j = ln(x_j / x_r) (r the phase's main component, so that
+    traces keep full precision), each phase on its volume root (``roots``),
+    from ``temperature`` and the ``starts`` (N + 1 rows). None if Newton
+    does not converge."""
+    size = kernel.size
+    count = size + 1
+    t = float(temperature)
+    starts = [np.asarray(row, dtype=float) / float(np.sum(row)) for row in starts]
+    main = [int(np.argmax(row)) for row in starts]
+    others = [[j for j in range(size) if j != main[k]] for k in range(count)]
+    u = [np.log(starts[k][others[k]] / starts[k][main[k]]) for k in range(count)]
+    width = size - 1
+    for _ in range(BINARY_NEWTON_STEPS):
+        state = kernel.at(t, pressure)
+        rows, ln_f, d_du, d_dt = [], [], [], []
+        for k in range(count):
+            ratios = np.ones(size)
+            ratios[others[k]] = np.exp(u[k])
+            row = ratios / ratios.sum()
+            props = state.derivatives(row, roots[k])
+            rows.append(row)
+            ln_f.append(np.log(row) + props.ln_phi)
+            free = others[k]
+            # d ln x_i / d u_j = delta_ij - x_j; d ln phi_i / d u_j = Phi_ij x_j - x_j (Phi x)_i
+            phi = props.dlnphi_dn
+            block = -np.outer(np.ones(size), row[free]) + phi[:, free] * row[free] - np.outer(phi @ row, row[free])
+            block[free, np.arange(width)] += 1.0
+            d_du.append(block)
+            d_dt.append(props.dlnphi_dT)
+        residual = np.concatenate([ln_f[0] - ln_f[k] for k in range(1, count)])
+        if not np.all(np.isfinite(residual)):
+            return None
+        if float(np.abs(residual).max()) < BINARY_CONVERGED:
+            return BinaryThreePhase(t, np.array(rows), tuple(roots))
+        jacobian = np.zeros((size * size, 1 + count * width))
+        for k in range(1, count):
+            band = slice((k - 1) * size, k * size)
+            jacobian[band, 0] = d_dt[0] - d_dt[k]
+            jacobian[band, 1:1 + width] = d_du[0]
+            jacobian[band, 1 + k * width:1 + (k + 1) * width] = -d_du[k]
+        try:
+            step = solve(jacobian, -residual)
+        except np.linalg.LinAlgError:
+            return None  # two of the phases have become one (or the roots have met)
+        if not np.all(np.isfinite(step)):
+            return None
+        scale = 1.0
+        if abs(step[0]) > BINARY_MAX_T_STEP * t:
+            scale = BINARY_MAX_T_STEP * t / abs(step[0])
+        largest = float(np.abs(step[1:]).max())
+        if largest > BINARY_MAX_U_STEP:
+            scale = min(scale, BINARY_MAX_U_STEP / largest)
+        t += scale * step[0]
+        u = [u[k] + scale * step[1 + k * width:1 + (k + 1) * width] for k in range(count)]
+    return None

@@ -4,7 +4,8 @@ is unstable (a third phase would form), and the multiphase split did not
 converge". In each, the stability test's trial phase lay close to a liquid
 of the two-phase answer, and substitution in the multiphase method crept
 (its rate near 1) while two liquids drew apart; Newton's method on the
-Gibbs energy now finishes it. The outlets are checked as in
+Gibbs energy now finishes it (the third case also needed its four phases
+at the one temperature where they coexist). The outlets are checked as in
 test_outlet_phase.py: equal fugacities from the departure functions, closed
 mass balances, the enthalpy met, and Gibbs's tangent-plane criterion from
 trial phases of the test's own.
@@ -16,7 +17,7 @@ import numpy as np
 import pytest
 
 from thermo.departures import residual
-from thermo.flash import flash_ph
+from thermo.flash import flash_ph, flash_tp
 from thermo.mixture import make_mixture
 from thermo.models import make_model
 
@@ -53,3 +54,38 @@ def test_stalled_multiphase_split_now_converges(names, fractions, model_name, pr
     for phase in out.phases:
         tm = _tangent_plane_minimum(model, t, p, z, phase.composition, phase.residual.ln_phi)
         assert tm > UNSTABLE_TM
+
+
+def test_ternary_valve_outlet_inside_the_jump_at_its_four_phase_temperature():
+    # Water, oxygen and carbonyl sulfide at 45.6 bar (SRK): by the phase rule
+    # three components have four phases at fixed P at one temperature T4
+    # only. Below T4 water sits beside two liquids of oxygen and carbonyl
+    # sulfide, above it beside one such liquid and an oxygen-rich vapor, and
+    # H(T) jumps at T4; this valve outlet's enthalpy lies inside the jump.
+    # Once the multiphase split crept here, then the oxygen-rich phase carried
+    # on from above outlasted its range (the water's own trials showed it).
+    names = ["water", "oxygen", "carbonyl-sulfide"]
+    z = np.array([0.5421407135048059, 0.38169279269965883, 0.0761664937955354])
+    model = make_model("soave-redlich-kwong", make_mixture(names))
+    pressure, enthalpy = 4560128.470494747, -37698.57085815037
+    out = flash_ph(model, pressure, enthalpy, z, 157.2628658502087)
+    assert out.enthalpy == pytest.approx(enthalpy, abs=1e-5)
+    assert len(out.phases) == 4
+    t, p = out.temperature, out.pressure
+    ln_f = np.array([np.log(ph.composition) + residual(
+        model, t, p, ph.composition, "liquid" if ph.residual.root == "liquid-like" else "vapor").ln_phi
+        for ph in out.phases])
+    assert float(np.max(np.ptp(ln_f, axis=0))) < 1e-8
+    balance = sum(ph.amount * ph.composition for ph in out.phases) - z
+    assert float(np.abs(balance).max()) < 1e-10
+    assert all(0.0 < ph.amount < 1.0 for ph in out.phases)
+    logs = np.log([ph.composition for ph in out.phases])
+    assert min(float(np.abs(logs[k] - logs[l]).max()) for k in range(4) for l in range(k + 1, 4)) > 0.05
+    for phase in out.phases:
+        tm = _tangent_plane_minimum(model, t, p, z, phase.composition, phase.residual.ln_phi)
+        assert tm > UNSTABLE_TM
+    # T4 is where H jumps: TP flashes 0.01 K either side bracket the target, three phases each
+    below = flash_tp(model, t - 0.01, p, z)
+    above = flash_tp(model, t + 0.01, p, z)
+    assert below.enthalpy < enthalpy < above.enthalpy
+    assert len(below.phases) == 3 and len(above.phases) == 3
