@@ -364,6 +364,16 @@ def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit 
             found = _lowest_set(state, eq.z, phases, trial, kernel.size - 1)
         else:
             found = multiphase_split(state, eq.z, phases + [trial])
+        if found is not None and len(found.amounts) == 1:
+            # Every pairing fell back onto the feed: phases carried on from a
+            # neighbouring temperature had outlasted the feed's own single phase
+            # (water with n-octane 7 K above its three-phase temperature, all
+            # vapor by then). The feed stands if it passes its own test.
+            ln_phi_feed, _, feed_liquid = state.ln_phi(eq.z)
+            feed_test = _stability(kernel, state, eq.z, ln_phi_feed, where, feed_liquid)
+            if feed_test.stable:
+                return _one_phase(state, eq.z, feed_test)
+            found = None
         if found is None:
             raise FlashError(
                 f"{where}: the two-phase answer is unstable (a third phase would form), "
@@ -376,19 +386,20 @@ def _third_phase(kernel: CubicKernel, eq: _Equilibrium, where, warm: MultiSplit 
 
 def _lowest_set(state: CubicAtTP, z: np.ndarray, phases, trial, keep: int) -> MultiSplit | None:
     """The split of lowest Gibbs energy that the multiphase method reaches
-    from the trial phase with each choice of ``keep`` of ``phases``; None if
-    none does."""
+    from the trial phase with each choice of ``keep`` of ``phases`` (one
+    phase, the feed, where every choice falls back onto it); None if none
+    converges."""
     best, best_g = None, math.inf
     for chosen in itertools.combinations(phases, keep):
         try:
             found = multiphase_split(state, z, list(chosen) + [trial])
         except (ArithmeticError, np.linalg.LinAlgError):
             found = None
-        if found is None or len(found.amounts) < 2:
+        if found is None:
             continue
         g = sum(float(a) * float(row @ (np.log(row) + state.ln_phi(row)[0]))
                 for a, row in zip(found.amounts, found.compositions))
-        if g < best_g:
+        if g < best_g or (best is not None and len(best.amounts) < 2 <= len(found.amounts) and g <= best_g + 1e-12):
             best, best_g = found, g
     return best
 
