@@ -19,6 +19,7 @@ from typing import Callable, Mapping
 from thermo.quantities import DISPLAY_KINDS, display_units, format_number, format_quantity, to_display
 from thermo.results import SheetResult
 from thermo.spec import SPEC_KEY_KINDS, Sheet
+from tui.phase_words import phase_word
 
 from .render import collect_flags, level_label
 
@@ -302,8 +303,8 @@ def diff_results(old: SheetResult, new: SheetResult) -> list[Change]:
             changes.append(Change("streams", CHANGED, f"{name} temperature", sa.temperature, sb.temperature, "temperature"))
         if not _close(sa.pressure, sb.pressure, PRESSURE_TOLERANCE_PA):
             changes.append(Change("streams", CHANGED, f"{name} pressure", sa.pressure, sb.pressure, "pressure"))
-        if sa.phase != sb.phase:
-            changes.append(Change("streams", CHANGED, f"{name} phase", sa.phase, sb.phase))
+        if phase_word(sa) != phase_word(sb):
+            changes.append(Change("streams", CHANGED, f"{name} phase", phase_word(sa), phase_word(sb)))
         elif not _close(sa.vapor_fraction, sb.vapor_fraction, VAPOR_FRACTION_TOLERANCE):
             changes.append(Change("streams", CHANGED, f"{name} vapor fraction", sa.vapor_fraction, sb.vapor_fraction))
     for name in _ordered_union(old.units, new.units):

@@ -24,6 +24,7 @@ from rich.text import Text
 
 from thermo.quantities import display_units, format_number, to_display
 from thermo.results import STATUS_ERROR, STATUS_OK, STATUS_VIOLATIONS, SheetResult, UnitResult
+from tui.phase_words import WITH_FRACTION, phase_word
 
 #: The command line's spelling of a unit system -> thermo.quantities' name.
 UNIT_SYSTEM_CHOICES = {"si": "SI", "metric": "metric", "us": "US"}
@@ -112,11 +113,12 @@ def _decimals(kind: str, system: str) -> int:
 
 
 def _vapor_phase(stream) -> str:
-    """The phase word; a two-phase stream adds its vapor fraction."""
+    """The phase word; a split with a vapor adds its vapor fraction."""
     state = stream.state
-    if state.phase == "two-phase":
-        return f"two-phase {format_number(state.vapor_fraction, significant=3, max_decimals=3)}"
-    return state.phase
+    word = phase_word(state)
+    if word in WITH_FRACTION:
+        return f"{word} {format_number(state.vapor_fraction, significant=3, max_decimals=3)}"
+    return word
 
 
 def _unit_flag_summary(unit: UnitResult, ascii_only: bool) -> str:

@@ -14,6 +14,7 @@ from typing import Any, Mapping
 from thermo.errors import QuantityError
 from thermo.quantities import format_quantity, parse_flow, parse_quantity
 from thermo.spec import CONNECTION_ROLES, LIST_ROLES, MODELS, SPEC_KEY_KINDS, UNIT_TYPES
+from tui.phase_words import phase_word
 
 QUANTITY_KINDS = ("temperature", "pressure", "pressure_difference", "power")
 NUMBER_KINDS = ("vapor_fraction", "efficiency", "ratio")
@@ -201,7 +202,7 @@ def stream_fields(document: Mapping, name: str, stream_result, system: str) -> l
     computed = {
         "temperature": _q(state.temperature, "temperature", system) if state else None,
         "pressure": _q(state.pressure, "pressure", system) if state else None,
-        "vapor_fraction": (f"{state.vapor_fraction:.4f} ({state.phase})" if state else None),
+        "vapor_fraction": (f"{state.vapor_fraction:.4f} ({phase_word(state)})" if state else None),
         "flow": _q(stream_result.molar_flow, "molar_flow", system) if stream_result else None,
     }
     rows: list[Field] = []

@@ -8,6 +8,8 @@ from rich.text import Text
 
 from thermo.quantities import display_units, format_number
 
+from tui.phase_words import WITH_FRACTION, phase_word
+
 from .cells import cell, entered_quantities, flag_variants, flags_by_place, number
 from .fitted_table import Column, FittedTable, header_unit
 from .row_table import NamedRows
@@ -18,9 +20,11 @@ PHASE_WORDS = {
     "liquid": ("liquid", "liquid"),
     "supercritical": ("supercritical", "supercrit."),
     "two-phase": ("two-phase", "2\u03c6"),
+    "three-phase": ("three-phase", "3\u03c6"),
+    "liquid-liquid": ("liquid-liquid", "liq-liq"),
 }
 # An entered vapor fraction beside a one-phase word: "liquid [0.00]", "liq [0.00]".
-SHORT_WITH_FRACTION = {"vapor": "vap", "liquid": "liq", "supercritical": "supercrit."}
+SHORT_WITH_FRACTION = {"vapor": "vap", "liquid": "liq", "supercritical": "supercrit.", "liquid-liquid": "liq-liq"}
 
 
 def phase_cell(phase: str, vapor_fraction: float, entered: bool) -> tuple[Text, Text]:
@@ -30,9 +34,9 @@ def phase_cell(phase: str, vapor_fraction: float, entered: bool) -> tuple[Text, 
     fraction = format_number(vapor_fraction, significant=3, max_decimals=3)
     if entered:
         mark = f"[{fraction}]"
-        short = short if phase == "two-phase" else SHORT_WITH_FRACTION.get(phase, short)
+        short = short if phase in WITH_FRACTION else SHORT_WITH_FRACTION.get(phase, short)
         return Text(f"{full} {mark}", style="bold"), Text(f"{short} {mark}", style="bold")
-    if phase == "two-phase":
+    if phase in WITH_FRACTION:
         return Text(f"{full} {fraction}"), Text(f"{short} {fraction}")
     return Text(full), Text(short)
 
@@ -75,7 +79,7 @@ class StreamTable(NamedRows, FittedTable):
                     cell(number(state.temperature, "temperature", system), "temperature" in fixed),
                     cell(number(state.pressure, "pressure", system), "pressure" in fixed),
                     cell(number(stream.molar_flow, "molar_flow", system), "flow" in fixed),
-                    phase_cell(state.phase, state.vapor_fraction, "vapor_fraction" in fixed),
+                    phase_cell(phase_word(state), state.vapor_fraction, "vapor_fraction" in fixed),
                     Text(number(state.enthalpy, "molar_energy", system, 6)),
                     Text(number(state.entropy, "molar_entropy", system)),
                     flag_variants(places.get(name, [])),
