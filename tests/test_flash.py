@@ -235,8 +235,27 @@ def test_pure_component_two_phase_ph_is_at_the_saturation_temperature():
 
 
 def test_ph_targets_outside_the_search_range_raise(gas_model):
-    with pytest.raises(FlashError, match="PH flash"):
+    with pytest.raises(FlashError, match="PH flash") as caught:
         flash_ph(gas_model, 50e5, 1e9, NATURAL_GAS)
+    assert "would take the stream above 5000 K, the highest temperature statepath searches" in str(caught.value)
+    assert "check the duty's size and sign" in str(caught.value)
+
+
+def test_a_duty_cooling_helium_below_10_k_is_refused_in_the_units_terms():
+    # A heater duty that cools helium (Tc 5.2 K) past the 10 K end of the search: the refusal
+    # says what it means for the outlet, names the state, and a target just inside is met.
+    model = make_model("peng-robinson", make_mixture(["helium"]))
+    x = np.array([1.0])
+    p = 290580.28
+    h_at_10_k = flash_tp(model, 10.0, p, x).enthalpy
+    with pytest.raises(FlashError) as caught:
+        flash_ph(model, p, h_at_10_k - 50.0, x, 200.0)
+    message = str(caught.value)
+    assert message.startswith("PH flash of peng-robinson at P = 290580.28 Pa")
+    assert "helium 1" in message
+    assert "would take the stream below 10 K, the lowest temperature statepath searches" in message
+    assert "no real outlet state has this enthalpy; check the duty's size and sign" in message
+    assert flash_ph(model, p, h_at_10_k + 5.0, x, 200.0).temperature > 10.0
 
 
 # --- vapor-fraction flashes, bubble and dew points --------------------------------------

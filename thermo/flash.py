@@ -541,6 +541,21 @@ class _TemperatureJump(FlashError):
         self.above = above
 
 
+def _beyond_search_message(where: str, what: str, side: str, bound: float) -> str:
+    """The refusal of a PH/PS target that no temperature of the search range
+    (``bound`` in K, the end passed on ``side`` "below" or "above") meets,
+    said as what it means for the unit: its outlet would lie beyond that end."""
+    if bound == T_SEARCH_LOW:
+        end = f"{bound:.6g} K, the lowest temperature statepath searches"
+    elif bound == T_SEARCH_HIGH:
+        end = f"{bound:.6g} K, the highest temperature statepath searches"
+    else:  # a pure component's saturation temperature bounding one phase's search
+        end = f"{bound:.6g} K, the saturation temperature at this pressure"
+    # a heater's or exchanger's duty sets an outlet enthalpy; an outlet pressure and inlet set an entropy
+    check = "check the duty's size and sign" if what == "enthalpy" else "check the outlet pressure and the inlet"
+    return f"{where}: the {what} asked would take the stream {side} {end}: no real outlet state has this {what}; {check}"
+
+
 def _search_temperature(evaluate, target, guess, low, high, tolerance, where, what, max_steps=200,
                         last_step: float = 0.0):
     """Temperature (K) at which evaluate(T) -> (value, d value/dT, payload)
@@ -567,11 +582,11 @@ def _search_temperature(evaluate, target, guess, low, high, tolerance, where, wh
         if miss < 0.0:
             below, below_payload = t, payload
             if t >= high:
-                raise FlashError(f"{where}: the {what} target lies above what {high:.6g} K gives")
+                raise FlashError(_beyond_search_message(where, what, "above", high))
         else:
             above, above_payload = t, payload
             if t <= low:
-                raise FlashError(f"{where}: the {what} target lies below what {low:.6g} K gives")
+                raise FlashError(_beyond_search_message(where, what, "below", low))
         lo = below if below is not None else low
         hi = above if above is not None else high
         if hi - lo <= 1e-13 * t:
