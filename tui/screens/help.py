@@ -75,6 +75,8 @@ def help_text() -> Group:
     parts.append(Text(
         "The phase column gives the phase, and the vapor fraction where it says something: "
         "'two-phase 0.437' (on a narrow terminal '2\u03c6 0.437') is two-phase with vapor fraction 0.437; "
+        "'liquid-liquid' is two liquids and no vapor (water beside hydrocarbons); 'three-phase 0.166' "
+        "('3\u03c6') is a vapor beside two liquids, with vapor fraction 0.166; "
         "'supercrit.' is supercritical; 'liquid [0.00]' is a vapor fraction the sheet fixes. "
         "A name too long for the terminal's width ends in \u2026 (the detail pane has it whole). "
         "The row under the cursor starts with \u25b8."))
