@@ -161,6 +161,7 @@ class DetailPane(Vertical):
             fields = stream_fields(document, name, stream, system)
             parts.extend(self._flags(places.get(name, [])))  # first: on a short terminal the rest may be cut
             parts.extend(self._stream_path(stream, result, system))
+            parts.extend(self._stream_phases(stream, result))
             if stream is not None and stream.state.notes:
                 parts.append(Text("notes", style="bold underline"))
                 parts.extend(Text(f"\u00b7 {note}") for note in stream.state.notes)
@@ -219,6 +220,33 @@ class DetailPane(Vertical):
         for row in rows:
             table.add_row(*row)
         return table
+
+    def _stream_phases(self, stream, result) -> list:
+        """A stream of several phases: each phase's share and make-up, a
+        column per phase (what goes to the vapor and to each liquid)."""
+        if stream is None or len(stream.state.phases) < 2:
+            return []
+        phases = stream.state.phases
+        table = Table(title="phases, mole fractions", title_justify="left", box=None, pad_edge=False,
+                      show_edge=False, title_style="bold underline")
+        table.add_column("")
+        liquids = sum(phase.label == "liquid" for phase in phases)
+        seen = 0
+        for phase in phases:
+            label = phase.label
+            if phase.label == "liquid" and liquids > 1:
+                seen += 1
+                label = f"liquid {seen}"
+            table.add_column(label, justify="right")
+        def fraction(value: float) -> str:
+            return f"{value:.4f}" if value >= 1e-3 else f"{value:.2e}"
+
+        table.add_row("share of stream", *(fraction(phase.amount) for phase in phases))
+        feed = stream.state.composition
+        for index, name in enumerate(result.component_names):
+            if feed[index] > 0.0:
+                table.add_row(name, *(fraction(float(phase.composition[index])) for phase in phases))
+        return [table]
 
     def _unit_path(self, unit, system: str) -> list:
         if unit is None or unit.path is None:
