@@ -133,7 +133,12 @@ def multiphase_split(state: CubicAtTP, z: np.ndarray, starts: list[np.ndarray]) 
     beta = np.full(phases, 1.0 / phases)
     history = []
     for iteration in range(1, SUBSTITUTION_STEPS + 1):
-        inverse_phi = np.exp(-ln_phi)
+        # Each component's 1/phi is scaled by its largest over the phases: Q
+        # shifts by a constant and its gradient, Hessian and the compositions
+        # are unchanged, but a nearly insoluble gas over a nearly involatile
+        # liquid (neon and water at 15 K: ln phi from -490 to +162) no longer
+        # overflows E_i and the Hessian into a singular matrix.
+        inverse_phi = np.exp(-(ln_phi - ln_phi.min(axis=0)))
         beta = _phase_amounts(z, inverse_phi, beta)
         e = beta @ inverse_phi
         compositions = (z / e) * inverse_phi
