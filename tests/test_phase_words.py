@@ -5,6 +5,7 @@ table, while the JSON keeps the contract's "two-phase"."""
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import numpy as np
 
@@ -21,22 +22,7 @@ from tui.widgets.stream_table import phase_cell
 
 HEXANE_WATER = np.array([0.5, 0.5])
 
-SHEET = """# invented: a made-up solvent drum let down to a flash pot
-format = 1
-model = "peng-robinson"
-
-[streams.drum-liquid]
-temperature = "95 degC"
-pressure = "6 bara"
-flow = "50 kmol/h"
-composition = { n-hexane = 0.5, water = 0.5 }
-
-[units.letdown]
-type = "valve"
-inlet = "drum-liquid"
-outlet = "flash-pot"
-outlet_pressure = "1.01325 bara"
-"""
+SHEET = Path(__file__).parent / "app" / "sheets" / "flash-pot.toml"  # invented hexane-water let-down
 
 
 def _model():
@@ -69,7 +55,7 @@ def test_an_ordinary_split_keeps_the_contract_word():
 
 def test_command_line_table_and_json_of_the_let_down(tmp_path):
     path = tmp_path / "pot.toml"
-    path.write_text(SHEET)
+    path.write_text(SHEET.read_text())
     _, result = load_and_solve(str(path))
     console = Console(width=120, record=True)
     console.print(stream_table(result, "metric"))

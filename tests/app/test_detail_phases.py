@@ -3,27 +3,14 @@ and make-up: what goes to the vapor and to each liquid."""
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from rich.console import Console
 
 from .conftest import open_app, run
 from tui.widgets.stream_table import StreamTable
 
-SHEET = """# invented: a made-up solvent drum let down to a flash pot
-format = 1
-model = "peng-robinson"
-
-[streams.drum-liquid]
-temperature = "95 degC"
-pressure = "6 bara"
-flow = "50 kmol/h"
-composition = { n-hexane = 0.5, water = 0.5 }
-
-[units.letdown]
-type = "valve"
-inlet = "drum-liquid"
-outlet = "flash-pot"
-outlet_pressure = "1.01325 bara"
-"""
+SHEET = Path(__file__).parent / "sheets" / "flash-pot.toml"  # invented hexane-water let-down
 
 
 def _detail_text(app) -> str:
@@ -34,7 +21,7 @@ def _detail_text(app) -> str:
 
 def test_a_three_phase_stream_lists_its_phases(tmp_path, environ):
     path = tmp_path / "pot.toml"
-    path.write_text(SHEET)
+    path.write_text(SHEET.read_text())
 
     async def scenario():
         async with open_app(path, environ) as (app, pilot):
