@@ -88,7 +88,7 @@ from .saturation import (
 from .stability import StabilityError, second_liquid_possible, stability_test
 from .state import LIQUID, VAPOR, StreamState
 from .three_phase import MERGE as MULTI_MERGE
-from .three_phase import BinaryThreePhase, MultiSplit, binary_three_phase, invariant_point, multiphase_split
+from .three_phase import CoexistingPhases, MultiSplit, invariant_point, multiphase_split
 from .two_phase import (
     Split,
     SplitError,
@@ -807,7 +807,7 @@ def _invariant_state_at_target(model, kernel, pressure, target, z_full, za, acti
     from the component balances and the target (``_invariant_state``);
     None where no such state passes."""
 
-    def closing(state: CubicAtTP, found: BinaryThreePhase):
+    def closing(state: CubicAtTP, found: CoexistingPhases):
         return [_phase_value(state, row, root, kind)[0] for row, root in zip(found.compositions, found.roots)], target
 
     def accept(stream: StreamState) -> bool:
@@ -827,8 +827,8 @@ def _invariant_state(model, kernel, pressure, z_full, za, active, where, tempera
     the phase rule coexist at one temperature T* only, where a search at
     fixed P found the H, S or vapor fraction jumping near ``temperature``
     (K) between the equilibria ``below`` and ``above``: T* and the phases by
-    Newton's method on equal fugacities (``binary_three_phase`` for a
-    binary, ``invariant_point`` otherwise) from the phases either side, the
+    Newton's method on equal fugacities (``invariant_point``) from the
+    phases either side, the
     amounts from the N component balances and one more linear equation, ``closing(state, found)`` -> (coefficient of each
     phase's amount, right-hand side). Kept only if every amount lies in
     [0, 1], the split passes the multiphase verification (fugacities, mass
@@ -845,9 +845,8 @@ def _invariant_state(model, kernel, pressure, z_full, za, active, where, tempera
             distinct.append((row, root))
     if len(distinct) < kernel.size + 1:
         return None
-    solver = binary_three_phase if kernel.size == 2 else invariant_point
     for chosen in itertools.combinations(distinct, kernel.size + 1):
-        found = solver(kernel, pressure, temperature, [row for row, _ in chosen], tuple(root for _, root in chosen))
+        found = invariant_point(kernel, pressure, temperature, [row for row, _ in chosen], tuple(root for _, root in chosen))
         if found is None:
             continue
         stream = _three_phase_stream(model, kernel, pressure, z_full, za, active, where, found, closing, accept)
@@ -856,7 +855,7 @@ def _invariant_state(model, kernel, pressure, z_full, za, active, where, tempera
     return None
 
 
-def _three_phase_stream(model, kernel, pressure, z_full, za, active, where, found: BinaryThreePhase, closing,
+def _three_phase_stream(model, kernel, pressure, z_full, za, active, where, found: CoexistingPhases, closing,
                         accept) -> StreamState | None:
     """The verified stream of the N + 1 phases ``found`` whose amounts meet
     the component balances and the equation ``closing`` gives; None where
@@ -1304,7 +1303,7 @@ def _binary_three_phase_at_fraction(model, kernel, pressure, beta, z_full, za, a
     amount (``_invariant_state``), the same T* and phases the PH
     and PS flashes reach inside their jump; None where no such state passes."""
 
-    def closing(state: CubicAtTP, found: BinaryThreePhase):
+    def closing(state: CubicAtTP, found: CoexistingPhases):
         if found.roots.count("vapor") != 1:
             return None  # no one vapor among the three: the fraction cannot be placed
         return [1.0 if root == "vapor" else 0.0 for root in found.roots], beta
@@ -1365,16 +1364,7 @@ def flash_pv(model, pressure: float, vapor_fraction: float, x: np.ndarray) -> St
     the liquids at the temperature where vapor first appears."""
     _check_fraction(vapor_fraction)
     z, active = _prepare(model, 300.0, pressure, x)
-    try:
-        point = envelope(model, z, vapor_fraction, pressure=pressure)
-    except SecondLiquidError as refused:
-        return _fraction_by_multiphase(model, z, active, float(vapor_fraction), "P", pressure, refused)
-    except FlashError:
-        if not _two_liquids_possible(model, active):
-            raise
-        # The two-phase search failed where a second liquid can form: look with every phase.
-        return _fraction_by_multiphase(model, z, active, float(vapor_fraction), "P", pressure, None)
-    return _stream_at_fraction(model, point, z, active)
+    return _at_fraction(model, z, active, float(vapor_fraction), "P", pressure)
 
 
 @_guarded("vapor-fraction flash", ("T", "vapor_fraction"))
@@ -1383,13 +1373,20 @@ def flash_tv(model, temperature: float, vapor_fraction: float, x: np.ndarray) ->
     the pressure is found."""
     _check_fraction(vapor_fraction)
     z, active = _prepare(model, temperature, 1e5, x)
+    return _at_fraction(model, z, active, float(vapor_fraction), "T", temperature)
+
+
+def _at_fraction(model, z, active, vapor_fraction: float, fixed: str, value: float) -> StreamState:
+    """The state with ``vapor_fraction`` at the fixed T (K) or P (Pa): the
+    two-phase envelope point, or the multiphase search where a second liquid
+    forms or the two-phase search fails where one can."""
+    fixed_state = {"pressure": value} if fixed == "P" else {"temperature": value}
     try:
-        point = envelope(model, z, vapor_fraction, temperature=temperature)
+        point = envelope(model, z, vapor_fraction, **fixed_state)
     except SecondLiquidError as refused:
-        return _fraction_by_multiphase(model, z, active, float(vapor_fraction), "T", temperature, refused)
+        return _fraction_by_multiphase(model, z, active, vapor_fraction, fixed, value, refused)
     except FlashError:
         if not _two_liquids_possible(model, active):
             raise
-        # The two-phase search failed where a second liquid can form: look with every phase.
-        return _fraction_by_multiphase(model, z, active, float(vapor_fraction), "T", temperature, None)
+        return _fraction_by_multiphase(model, z, active, vapor_fraction, fixed, value, None)
     return _stream_at_fraction(model, point, z, active)

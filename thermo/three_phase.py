@@ -15,9 +15,10 @@ component's fugacity x_ik phi_ik P is the same in every phase present.
 Where substitution creeps (two liquids near a critical end point), Newton's
 method on the Gibbs energy itself finishes the split (``_newton_finish``).
 
-A binary has three phases at fixed P at one temperature only (the phase
-rule leaves it no freedom): ``binary_three_phase`` finds that temperature
-and the three compositions together by Newton's method.
+N components have N + 1 phases at fixed P at one temperature only (the
+phase rule leaves them no freedom; a binary's vapor and two liquids):
+``invariant_point`` finds that temperature and the compositions together
+by Newton's method.
 """
 
 from __future__ import annotations
@@ -304,17 +305,17 @@ def _descent_step(hessian: np.ndarray, gradient: np.ndarray) -> np.ndarray | Non
     return step if np.all(np.isfinite(step)) else None
 
 
-# --- a binary's three phases at fixed pressure ------------------------------------
-BINARY_NEWTON_STEPS = 30
-BINARY_CONVERGED = 1e-11  # max |residual| in ln f at which the Newton solve stops (verified to 1e-8 after)
-BINARY_MAX_T_STEP = 0.05  # at most this fraction of T in one Newton step
-BINARY_MAX_U_STEP = 2.0  # and at most this much in ln(x_0 / x_1)
+# --- N + 1 phases of N components at fixed pressure: constants and result ---------
+INVARIANT_NEWTON_STEPS = 30
+INVARIANT_CONVERGED = 1e-11  # max |residual| in ln f at which the Newton solve stops (verified to 1e-8 after)
+INVARIANT_MAX_T_STEP = 0.05  # at most this fraction of T in one Newton step
+INVARIANT_MAX_U_STEP = 2.0  # and at most this much in a phase's ln(x_j / x_main)
 
 
 @dataclass(frozen=True)
-class BinaryThreePhase:
-    """The three phases of a binary at fixed P: ``temperature`` (K, the one
-    temperature at which they coexist), ``compositions`` (rows of mole
+class CoexistingPhases:
+    """N + 1 phases of N components at fixed P (a binary's three):
+    ``temperature`` (K, the one temperature at which they coexist), ``compositions`` (rows of mole
     fractions) and the volume ``roots`` ("vapor" or "liquid") each was
     solved on."""
 
@@ -323,76 +324,12 @@ class BinaryThreePhase:
     roots: tuple[str, ...]
 
 
-def binary_three_phase(kernel: CubicKernel, pressure: float, temperature: float, starts: list[np.ndarray],
-                       roots: tuple[str, ...]) -> BinaryThreePhase | None:
-    """The temperature (K) at pressure (Pa) at which three phases of a binary
-    coexist, and their compositions: Newton's method on the four equations
-    ln f_i(phase 0) = ln f_i(phase k), k = 1, 2, in T and the three phases'
-    u = ln(x_0 / x_1) (a phase nearly pure in either component keeps its
-    minor mole fraction to full precision), each phase held on its volume
-    root (``roots``), from ``temperature`` and the ``starts`` (three rows).
-    By the phase rule (2 components, 3 phases, P fixed) the solution is a
-    point. None if Newton does not converge."""
-    t = float(temperature)
-    u = np.array([math.log(float(row[0]) / float(row[1])) for row in starts])
-    sign = np.array([1.0, -1.0])
-    for _ in range(BINARY_NEWTON_STEPS):
-        state = kernel.at(t, pressure)
-        rows = _logit_rows(u)
-        ln_f, d_du, d_dt = [], [], []
-        for k in range(3):
-            row = rows[k]
-            props = state.derivatives(row, roots[k])
-            ln_f.append(np.log(row) + props.ln_phi)
-            # dx = (1, -1) x_0 x_1 du; at one mole d ln phi_i = sum_j (n d ln phi_i/d n_j) dx_j
-            weight = row[0] * row[1]
-            d_du.append(np.array([row[1], -row[0]]) + weight * (props.dlnphi_dn @ sign))
-            d_dt.append(props.dlnphi_dT)
-        residual = np.concatenate([ln_f[0] - ln_f[1], ln_f[0] - ln_f[2]])
-        if not np.all(np.isfinite(residual)):
-            return None
-        if float(np.abs(residual).max()) < BINARY_CONVERGED:
-            return BinaryThreePhase(t, rows, tuple(roots))
-        jacobian = np.zeros((4, 4))
-        jacobian[0:2, 0] = d_dt[0] - d_dt[1]
-        jacobian[2:4, 0] = d_dt[0] - d_dt[2]
-        jacobian[0:2, 1] = d_du[0]
-        jacobian[2:4, 1] = d_du[0]
-        jacobian[0:2, 2] = -d_du[1]
-        jacobian[2:4, 3] = -d_du[2]
-        try:
-            step = solve(jacobian, -residual)
-        except np.linalg.LinAlgError:
-            return None  # two of the phases have become one (or the roots have met)
-        if not np.all(np.isfinite(step)):
-            return None
-        # Short steps in T and u: Newton from a start this close needs no more.
-        scale = 1.0
-        if abs(step[0]) > BINARY_MAX_T_STEP * t:
-            scale = BINARY_MAX_T_STEP * t / abs(step[0])
-        largest = float(np.abs(step[1:]).max())
-        if largest > BINARY_MAX_U_STEP:
-            scale = min(scale, BINARY_MAX_U_STEP / largest)
-        t += scale * step[0]
-        u = u + scale * step[1:]
-    return None
-
-
-def _logit_rows(u: np.ndarray) -> np.ndarray:
-    """Rows (x_0, x_1) with ln(x_0 / x_1) = u, each to full relative precision."""
-    first = 1.0 / (1.0 + np.exp(-u))
-    second = 1.0 / (1.0 + np.exp(u))
-    return np.column_stack([first, second])
-
-
-# --- N + 1 phases of N components at fixed pressure ---------------------------------
 def invariant_point(kernel: CubicKernel, pressure: float, temperature: float, starts: list[np.ndarray],
-                    roots: tuple[str, ...]) -> BinaryThreePhase | None:
+                    roots: tuple[str, ...]) -> CoexistingPhases | None:
     """The temperature (K) at pressure (Pa) at which N + 1 phases of N
     components coexist (a ternary's four: water, two liquids and a vapor of
     oxygen and carbonyl sulfide), and their compositions: by the phase rule
-    a point, found as ``binary_three_phase`` finds a binary's, by Newton's
-    method on ln f_i(phase 0) = ln f_i(phase k), k = 1..N, in T and each
+    a point (for a binary, its three phases), by Newton's method on ln f_i(phase 0) = ln f_i(phase k), k = 1..N, in T and each
     phase's u_j = ln(x_j / x_r) (r the phase's main component, so that
     traces keep full precision), each phase on its volume root (``roots``),
     from ``temperature`` and the ``starts`` (N + 1 rows). None if Newton
@@ -405,7 +342,7 @@ def invariant_point(kernel: CubicKernel, pressure: float, temperature: float, st
     others = [[j for j in range(size) if j != main[k]] for k in range(count)]
     u = [np.log(starts[k][others[k]] / starts[k][main[k]]) for k in range(count)]
     width = size - 1
-    for _ in range(BINARY_NEWTON_STEPS):
+    for _ in range(INVARIANT_NEWTON_STEPS):
         state = kernel.at(t, pressure)
         rows, ln_f, d_du, d_dt = [], [], [], []
         for k in range(count):
@@ -425,8 +362,8 @@ def invariant_point(kernel: CubicKernel, pressure: float, temperature: float, st
         residual = np.concatenate([ln_f[0] - ln_f[k] for k in range(1, count)])
         if not np.all(np.isfinite(residual)):
             return None
-        if float(np.abs(residual).max()) < BINARY_CONVERGED:
-            return BinaryThreePhase(t, np.array(rows), tuple(roots))
+        if float(np.abs(residual).max()) < INVARIANT_CONVERGED:
+            return CoexistingPhases(t, np.array(rows), tuple(roots))
         jacobian = np.zeros((size * size, 1 + count * width))
         for k in range(1, count):
             band = slice((k - 1) * size, k * size)
@@ -440,11 +377,11 @@ def invariant_point(kernel: CubicKernel, pressure: float, temperature: float, st
         if not np.all(np.isfinite(step)):
             return None
         scale = 1.0
-        if abs(step[0]) > BINARY_MAX_T_STEP * t:
-            scale = BINARY_MAX_T_STEP * t / abs(step[0])
+        if abs(step[0]) > INVARIANT_MAX_T_STEP * t:
+            scale = INVARIANT_MAX_T_STEP * t / abs(step[0])
         largest = float(np.abs(step[1:]).max())
-        if largest > BINARY_MAX_U_STEP:
-            scale = min(scale, BINARY_MAX_U_STEP / largest)
+        if largest > INVARIANT_MAX_U_STEP:
+            scale = min(scale, INVARIANT_MAX_U_STEP / largest)
         t += scale * step[0]
         u = [u[k] + scale * step[1 + k * width:1 + (k + 1) * width] for k in range(count)]
     return None
